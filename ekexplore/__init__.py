@@ -1,0 +1,17 @@
+"""ekexplore: electrokinetic transport in micro- and nanofluidic channels.
+
+The package reads like the physics: medium -> electrolyte -> wall -> channel
+-> double layer -> transport -> regimes.
+"""
+from .medium import water_relative_permittivity, water_permittivity, water_viscosity, water_density
+from .electrolyte import Ion, ION_TABLE, SALTS, Electrolyte, debye_length
+from .wall import (Wall, grahame_charge, grahame_potential, diffuse_layer_conductance,
+                   bikerman_conductance)
+
+__all__ = [
+    "water_relative_permittivity", "water_permittivity", "water_viscosity", "water_density",
+    "Ion", "ION_TABLE", "SALTS", "Electrolyte", "debye_length",
+    "Wall", "grahame_charge", "grahame_potential", "diffuse_layer_conductance",
+    "bikerman_conductance",
+]
+__version__ = "0.1.0"
