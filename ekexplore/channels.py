@@ -7,11 +7,14 @@ without changing it.
 """
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from ._validate import check_range
 
-__all__ = ["Channel", "Slit", "Tube", "SIZE_MIN", "SIZE_MAX"]
+__all__ = ["Channel", "Slit", "Tube", "SIZE_MIN", "SIZE_MAX", "SHAPES", "ParameterInfo",
+           "register_shape"]
 
 #: Smallest channel dimension accepted [m] (below about 1 nm continuum fails).
 SIZE_MIN = 1e-9
@@ -24,6 +27,30 @@ def _size(name, value):
                        hint="continuum electrokinetics needs sizes from 1 nm to 1 cm")
 
 
+@dataclass(frozen=True)
+class ParameterInfo:
+    """How to present one shape parameter (for dashboards and sweeps).
+
+    ``kind`` is ``"length"`` [m], ``"angle"`` [deg] or ``"ratio"`` [-].
+    """
+
+    label: str
+    default: float
+    kind: str = "length"
+    minimum: float = SIZE_MIN
+    maximum: float = SIZE_MAX
+
+
+#: Registry of cross-sections: name -> class. Dashboards list every entry.
+SHAPES: dict = {}
+
+
+def register_shape(cls):
+    """Class decorator that adds a :class:`Channel` subclass to :data:`SHAPES`."""
+    SHAPES[cls.__name__] = cls
+    return cls
+
+
 class Channel:
     """Base class of all cross-sections.
 
@@ -34,8 +61,10 @@ class Channel:
 
     #: ``"slit"``, ``"tube"`` or ``"section"`` (a 2D cross-section).
     kind = "abstract"
-    #: Names of the size parameters, for dashboards and sweeps.
+    #: Names of the constructor parameters, in order.
     parameters: tuple = ()
+    #: name -> ParameterInfo, for dashboards and sweeps.
+    parameter_info: dict = {}
 
     @property
     def shape(self):
@@ -75,6 +104,7 @@ class Channel:
         return f"{type(self).__name__}({args})"
 
 
+@register_shape
 class Slit(Channel):
     """A slit between two parallel walls.
 
@@ -102,6 +132,7 @@ class Slit(Channel):
 
     kind = "slit"
     parameters = ("gap",)
+    parameter_info = {"gap": ParameterInfo("gap (wall to wall)", 1e-6)}
 
     def __init__(self, gap, width=None):
         self.gap = _size("gap", gap)
@@ -137,6 +168,7 @@ class Slit(Channel):
         return transport_1d(0, self.half_size, conditions, model, options)
 
 
+@register_shape
 class Tube(Channel):
     """A circular tube (capillary or pore).
 
@@ -154,6 +186,7 @@ class Tube(Channel):
 
     kind = "tube"
     parameters = ("diameter",)
+    parameter_info = {"diameter": ParameterInfo("inner diameter", 1e-6)}
 
     def __init__(self, diameter):
         self.diameter = _size("diameter", diameter)
