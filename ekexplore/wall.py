@@ -4,6 +4,8 @@ at an isolated flat wall.
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from scipy import constants
 
@@ -108,15 +110,49 @@ def _thermal_voltage(T):
     return constants.k * np.asarray(T) / constants.e
 
 
-def _bulk(electrolyte):
-    """(z [n,1..], c [n,...], T, eps, shape) with trailing broadcast axes."""
-    z = electrolyte.valences.reshape((-1,) + (1,) * len(electrolyte.shape))
-    return z, electrolyte.concentrations, electrolyte.temperature, electrolyte.permittivity
+def _per_ion(electrolyte, arr, ndim):
+    """Per-ion array (n, *electrolyte.shape) with unit axes inserted after the
+    ion axis so that it broadcasts against arrays of ``ndim`` dimensions."""
+    arr = np.asarray(arr)
+    extra = max(ndim - len(electrolyte.shape), 0)
+    return arr.reshape(arr.shape[:1] + (1,) * extra + arr.shape[1:])
+
+
+def _bulk(electrolyte, ndim=0):
+    """(z [n,1..], c [n,...], T, eps) aligned for results of ``ndim`` dimensions.
+
+    ``ndim`` is the number of dimensions of the broadcast result; the ion axis
+    stays first and the electrolyte's own axes stay last.
+    """
+    ndim = max(ndim, len(electrolyte.shape))
+    z = electrolyte.valences.reshape((-1,) + (1,) * ndim)
+    c = _per_ion(electrolyte, electrolyte.concentrations, ndim)
+    return z, c, electrolyte.temperature, electrolyte.permittivity
+
+
+# Taylor coefficients 1/k!, k = 2..17, for exp(x) - 1 - x near x = 0.
+_EXPREL2_COEF = np.array([0.0, 0.0] + [1.0 / math.factorial(k) for k in range(2, 18)])
+
+
+def _expm1mx(x):
+    """exp(x) - 1 - x without cancellation: a Taylor series for |x| < 0.5
+    (truncation below 1e-18 relative) and expm1(x) - x beyond. Never negative."""
+    x = np.asarray(x, dtype=float)
+    with np.errstate(over="ignore"):
+        far = np.expm1(x) - x
+    near = np.polynomial.polynomial.polyval(np.clip(x, -0.5, 0.5), _EXPREL2_COEF)
+    return np.where(np.abs(x) < 0.5, near, far)
 
 
 def _osmotic_sum(z, c, phi):
-    """sum_i c_i (exp(-z_i phi) - 1) [mol/m^3], with phi broadcast against c[0]."""
-    return np.sum(c * np.expm1(-z * phi), axis=0)
+    """sum_i c_i (exp(-z_i phi) - 1) [mol/m^3], with phi broadcast against c[0].
+
+    Evaluated as sum_i c_i (exp(-z_i phi) - 1 + z_i phi), which is the same for
+    an electroneutral bulk (sum_i z_i c_i = 0) but has no cancellation at small
+    phi and is never negative, so the Grahame relation stays monotone and
+    accurate down to phi -> 0.
+    """
+    return np.sum(c * _expm1mx(-z * phi), axis=0)
 
 
 def grahame_charge(electrolyte, zeta):
@@ -155,7 +191,7 @@ def grahame_charge(electrolyte, zeta):
     '-0.0436'
     """
     zeta = check_range("zeta", zeta, -ZETA_MAX, ZETA_MAX, unit="V")
-    z, c, T, eps = _bulk(electrolyte)
+    z, c, T, eps = _bulk(electrolyte, zeta.ndim)
     phi = zeta / _thermal_voltage(T)
     s = _osmotic_sum(z, c, phi)
     return np.sign(zeta) * np.sqrt(2 * eps * constants.k * T * constants.N_A * np.maximum(s, 0))
@@ -194,7 +230,7 @@ def grahame_potential(electrolyte, charge_density):
     '-51.4 mV'
     """
     sigma = check_range("charge_density", charge_density, -SIGMA_MAX, SIGMA_MAX, unit="C/m^2")
-    z, c, T, eps = _bulk(electrolyte)
+    z, c, T, eps = _bulk(electrolyte, sigma.ndim)
     shape = np.broadcast_shapes(sigma.shape, electrolyte.shape)
     target = np.broadcast_to(sigma**2 / (2 * eps * constants.k * T * constants.N_A), shape)
     sgn = np.broadcast_to(np.sign(sigma), shape)
@@ -218,8 +254,8 @@ def _flat_wall_integrals(electrolyte, zeta):
       I_conv[i] = int_0^inf (exp(-z_i phi) - 1)(phi - phi_w) dx  [m]
     using dx = dphi / |dphi/dx| and (dphi/dX)^2 = 2 sum x_j(e^{-z_j phi}-1)/sum z_j^2 x_j.
     """
-    z, c, T, eps = _bulk(electrolyte)
     zeta = np.asarray(zeta, dtype=float)
+    z, c, T, eps = _bulk(electrolyte, zeta.ndim)
     phi_w = zeta / _thermal_voltage(T)
     kappa = 1.0 / electrolyte.debye_length
     shape = np.broadcast_shapes(phi_w.shape, electrolyte.shape)
@@ -228,12 +264,14 @@ def _flat_wall_integrals(electrolyte, zeta):
     u = _GL_X.reshape((-1, 1) + (1,) * len(shape))
     w = _GL_W.reshape((-1, 1) + (1,) * len(shape))
     phi = u * phi_w
-    ez = np.expm1(-z * phi)                       # (q, n, ...)
+    with np.errstate(over="ignore"):
+        ez = np.expm1(-z * phi)                   # (q, n, ...)
     zz = np.sum(z**2 * c, axis=0)                 # (...)
-    g = 2.0 * np.sum(c * ez, axis=1, keepdims=True) / zz   # (q, 1, ...) = (dphi/dX)^2
-    # near phi = 0 the ratio (e^{-z phi}-1)/|phi'| tends to -z sgn(phi); avoid 0/0 there
-    small = np.abs(phi) < 1e-6
-    slope = np.where(small, 1.0, np.sqrt(np.maximum(g, 0.0)))
+    # (dphi/dX)^2, cancellation-free (see _osmotic_sum); (q, 1, ...)
+    g = 2.0 * np.sum(c * _expm1mx(-z * phi), axis=1, keepdims=True) / zz
+    # phi = 0 only when phi_w = 0 (handled below); avoid 0/0 there
+    small = phi == 0
+    slope = np.where(small, 1.0, np.sqrt(g))
     ratio = np.where(small, -z * np.sign(phi_w), ez / slope)  # (q, n, ...)
     jac = np.abs(phi_w)  # dphi = phi_w du, integrate in |phi|
     I_mig = np.sum(w * ratio, axis=0) * jac / kappa
@@ -287,12 +325,12 @@ def diffuse_layer_conductance(electrolyte, zeta):
     >>> e = Electrolyte.salt("KCl", 1.0)
     >>> mig, conv = diffuse_layer_conductance(e, -0.1)
     >>> f"{float((mig + conv).sum()) * 1e9:.2f} nS"
-    '1.91 nS'
+    '1.10 nS'
     """
     zeta = check_range("zeta", zeta, -ZETA_MAX, ZETA_MAX, unit="V")
     I_mig, I_conv, _ = _flat_wall_integrals(electrolyte, zeta)
-    z, c, T, eps = _bulk(electrolyte)
-    D = electrolyte.diffusivities
+    z, c, T, eps = _bulk(electrolyte, zeta.ndim)
+    D = _per_ion(electrolyte, electrolyte.diffusivities, zeta.ndim)
     eta = electrolyte.viscosity
     mig = z**2 * F**2 * D * c / (R * T) * I_mig
     conv = z * F * c * (eps / eta) * _thermal_voltage(T) * I_conv
@@ -335,7 +373,7 @@ def bikerman_conductance(electrolyte, zeta):
     >>> from ekexplore import Electrolyte
     >>> e = Electrolyte.salt("KCl", 1.0)
     >>> f"{float(bikerman_conductance(e, -0.1)) * 1e9:.2f} nS"
-    '1.91 nS'
+    '1.10 nS'
     """
     zeta = check_range("zeta", zeta, -ZETA_MAX, ZETA_MAX, unit="V")
     zs = electrolyte.valences
