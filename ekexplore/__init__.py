@@ -8,7 +8,15 @@ from .electrolyte import Ion, ION_TABLE, SALTS, Electrolyte, debye_length
 from .wall import (Wall, grahame_charge, grahame_potential, diffuse_layer_conductance,
                    bikerman_conductance)
 
+from .channels import Channel, Slit, Tube, SHAPES, register_shape
+from .doublelayer import ConvergenceError
+from .transport import solve, Result
+from .profiles import Profiles
+from .regimes import estimated_model_errors, regime_verdict
+
 __all__ = [
+    "Channel", "Slit", "Tube", "SHAPES", "register_shape", "ConvergenceError",
+    "solve", "Result", "Profiles", "estimated_model_errors", "regime_verdict",
     "water_relative_permittivity", "water_permittivity", "water_viscosity", "water_density",
     "Ion", "ION_TABLE", "SALTS", "Electrolyte", "debye_length",
     "Wall", "grahame_charge", "grahame_potential", "diffuse_layer_conductance",

@@ -1,0 +1,311 @@
+r"""``solve``: the electrokinetic coupling matrix of a channel, and what follows from it.
+
+.. math:: \begin{pmatrix}\bar u\\ \bar\imath\end{pmatrix} =
+          \begin{pmatrix}L_{11} & L_{12}\\ L_{21} & L_{22}\end{pmatrix}
+          \begin{pmatrix}-dp/dx\\ E_x\end{pmatrix}
+
+with the area-mean velocity [m/s] and current density [A/m²]; L11 is the
+hydraulic, L12 the electro-osmotic, L21 the streaming and L22 the
+conductive coefficient.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from ._state import Conditions
+from ._validate import check_finite_result, check_positive, check_range
+from .channels import Channel
+from .doublelayer import PB_PHI_MAX
+from .electrolyte import Electrolyte
+from .regimes import ERROR_METHOD
+from .wall import Wall
+
+__all__ = ["solve", "Result", "MODEL_CHOICES"]
+
+MODEL_CHOICES = ("auto", "thin", "dh", "pb")
+
+
+def _conditions(channel, electrolyte, wall):
+    shape = np.broadcast_shapes(channel.shape, electrolyte.shape, wall.shape)
+    def bc(a):
+        return np.broadcast_to(np.asarray(a, dtype=float), shape)
+    def bcn(a):
+        return np.broadcast_to(a, a.shape[:1] + shape)
+    return Conditions(
+        shape=shape, temperature=bc(electrolyte.temperature),
+        permittivity=bc(electrolyte.permittivity), viscosity=bc(electrolyte.viscosity),
+        valences=electrolyte.valences, concentrations=bcn(electrolyte.concentrations),
+        diffusivities=bcn(electrolyte.diffusivities),
+        ion_names=tuple(i.name for i in electrolyte.ions),
+        kappa=bc(1.0 / electrolyte.debye_length), wall_condition=wall.condition,
+        wall_value=bc(wall.value), stern_conductance=bc(wall.stern_conductance))
+
+
+def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=1e-6):
+    r"""Compute the electrokinetic coupling matrix and the profiles behind it.
+
+    Parameters
+    ----------
+    channel : Channel
+        ``Slit``, ``Tube`` or a 2D section; its sizes may be arrays.
+    electrolyte : Electrolyte
+        Ions, concentrations [mol/m³] and temperature [K]; may be arrays.
+    wall : Wall
+        Constant zeta [V] or constant charge [C/m²], optional Stern
+        conductance [S]; may be arrays.
+    model : {"auto", "thin", "dh", "pb"}
+        Double-layer model. ``"auto"`` picks, per point, the cheapest model
+        whose estimated error on every coefficient is below ``tol``.
+    tol : float
+        Error tolerance for ``"auto"`` [-], 1e-6 to 1. Default 0.01.
+    accuracy : float
+        Target relative accuracy of the numerical (pb and 2D) solutions [-].
+
+    Returns
+    -------
+    Result
+        Broadcast over all array inputs; ``matrix`` has shape (..., 2, 2).
+
+    Notes
+    -----
+    Validity: continuum point-ion electrokinetics (Poisson–Boltzmann with
+    Stokes flow), the channel in equilibrium with a reservoir of the given
+    electrolyte, no slip at the shear plane (the wall), a uniform axial
+    field and pressure gradient (a long channel), water as solvent. The pb
+    solver covers kappa*half-size from 1e-3 to 1e5 and |z e zeta/kT| up to 40
+    (validated to 20). The two off-diagonals are computed independently,
+    L21 = <rho_e u_p>/G and L12 = <u_eo>/E; their relative difference is
+    reported as ``reciprocity_residual`` (Onsager 1931).
+
+    References
+    ----------
+    .. [1] Onsager, L. (1931). Phys. Rev. 37, 405. doi:10.1103/PhysRev.37.405
+    .. [2] Rice, C. L.; Whitehead, R. (1965). J. Phys. Chem. 69, 4017.
+       doi:10.1021/j100782a002
+    .. [3] Burgreen, D.; Nakache, F. R. (1964). J. Phys. Chem. 68, 1084.
+       doi:10.1021/j100787a019
+
+    Examples
+    --------
+    >>> import ekexplore as ek
+    >>> r = ek.solve(ek.Slit(gap=100e-9), ek.Electrolyte.salt("KCl", 1.0),
+    ...              ek.Wall(zeta=-0.05), model="pb")
+    >>> r.matrix.shape
+    (2, 2)
+    >>> bool(r.electroosmotic > 0 and r.streaming > 0)
+    True
+    >>> float(r.reciprocity_residual) < 1e-8
+    True
+    """
+    if not isinstance(channel, Channel):
+        raise ValueError(f"channel must be a Slit, Tube or another Channel, got {channel!r}")
+    if not isinstance(electrolyte, Electrolyte):
+        raise ValueError(f"electrolyte must be an Electrolyte, got {electrolyte!r}")
+    if not isinstance(wall, Wall):
+        raise ValueError(f"wall must be a Wall, got {wall!r}")
+    if model not in MODEL_CHOICES:
+        raise ValueError(f"model = {model!r}; choose one of {', '.join(MODEL_CHOICES)}")
+    tol = float(check_range("tol", tol, 1e-6, 1.0))
+    accuracy = float(check_range("accuracy", accuracy, 1e-9, 0.1))
+    cond = _conditions(channel, electrolyte, wall)
+    K = cond.kappa * np.broadcast_to(channel.half_size, cond.shape)
+    check_range("kappa*half_size", K, 1e-3, 1e5,
+                hint="the channel is too narrow or too wide for the Debye length; change "
+                     "the size or the concentration")
+    zmax = float(np.max(np.abs(cond.valences)))
+    if cond.wall_condition == "potential":
+        check_range("zeta", cond.wall_value, -PB_PHI_MAX * cond.thermal_voltage.min() / zmax,
+                    PB_PHI_MAX * cond.thermal_voltage.min() / zmax, unit="V",
+                    hint=f"|z e zeta/kT| must stay below {PB_PHI_MAX:g}")
+    out = channel._kernel(cond, model, {"tol": tol, "accuracy": accuracy})
+    if cond.wall_condition == "charge":
+        phi = np.abs(out["wall_potential"]) / cond.thermal_voltage * zmax
+        if np.any(phi > PB_PHI_MAX):
+            bad = float(np.max(np.abs(out["wall_potential"])))
+            raise ValueError(f"charge_density gives a wall potential of {bad:g} V, beyond the "
+                             f"solver range |z e zeta/kT| <= {PB_PHI_MAX:g}; lower the charge "
+                             "or raise the concentration")
+    return Result(channel, electrolyte, wall, cond, out, model, tol)
+
+
+class Result:
+    """Coupling matrix, whole-channel figures and derived quantities.
+
+    Every attribute is an ndarray of the broadcast input shape (0-d for
+    scalar inputs) in SI units, per unit cross-section area unless said.
+    """
+
+    def __init__(self, channel, electrolyte, wall, conditions, out, model, tol):
+        self.channel, self.electrolyte, self.wall = channel, electrolyte, wall
+        self.requested_model = model
+        self.tol = tol
+        self._cond = conditions
+        self._out = out
+        shape = conditions.shape
+        area = np.broadcast_to(channel.area, shape)
+        perim = np.broadcast_to(channel.perimeter, shape)
+        self._p_over_a = perim / area
+        stern = self._p_over_a * conditions.stern_conductance
+        L11 = out["L11"]
+        L12 = out["L12"]
+        L21 = out["L21"]
+        L22 = out["L22_migration"] + out["L22_convection"] + stern
+        M = np.empty(shape + (2, 2))
+        M[..., 0, 0], M[..., 0, 1], M[..., 1, 0], M[..., 1, 1] = L11, L12, L21, L22
+        self.matrix = check_finite_result("matrix", M)
+        self._stern = stern
+        self.model = np.asarray(out["model"])
+        self.error_estimate = np.asarray(out["error"])
+        self.error_method = ERROR_METHOD if model == "auto" else (
+            "Richardson difference of a two-grid solve" if model == "pb" else
+            "none: closed form of the chosen model (see ekexplore.regimes for its range)")
+        self.permittivity = conditions.permittivity
+        self.viscosity = conditions.viscosity
+        self.temperature = conditions.temperature
+        self.debye_length = 1.0 / conditions.kappa
+        self.kappa_size = conditions.kappa * np.broadcast_to(channel.half_size, shape)
+        self.wall_potential = np.asarray(out["wall_potential"])
+        self.wall_charge = np.asarray(out.get("wall_charge", np.full(shape, np.nan)))
+        self.bulk_conductivity = conditions.bulk_conductivity()
+
+    # -- the four coefficients -------------------------------------------------
+    @property
+    def hydraulic(self):
+        """L11 = mean velocity per -dp/dx [m²/(Pa·s)]."""
+        return self.matrix[..., 0, 0]
+
+    @property
+    def electroosmotic(self):
+        """L12 = mean velocity per field [m²/(V·s)]."""
+        return self.matrix[..., 0, 1]
+
+    @property
+    def streaming(self):
+        """L21 = mean current density per -dp/dx [A/(Pa·m)]."""
+        return self.matrix[..., 1, 0]
+
+    @property
+    def conductive(self):
+        """L22 = mean current density per field, the effective conductivity [S/m]."""
+        return self.matrix[..., 1, 1]
+
+    @property
+    def reciprocity_residual(self):
+        """|L12 - L21| / max(|L12|, |L21|) [-]: the Onsager check."""
+        a, b = self.electroosmotic, self.streaming
+        scale = np.maximum(np.maximum(np.abs(a), np.abs(b)), 1e-300)
+        return np.abs(a - b) / scale
+
+    # -- derived quantities --------------------------------------------------------
+    @property
+    def electroosmotic_mobility(self):
+        """Mean electro-osmotic velocity per field [m²/(V·s)] (= L12)."""
+        return self.electroosmotic
+
+    @property
+    def streaming_potential_coefficient(self):
+        """Streaming field per pressure gradient at zero current, E/(-dp/dx) = -L21/L22 [V/Pa].
+
+        Equal to eps zeta/(eta K) in the Smoluchowski limit (negative for negative zeta).
+        """
+        return -self.streaming / self.conductive
+
+    @property
+    def streaming_current_coefficient(self):
+        """Mean streaming current density per -dp/dx at zero field (= L21) [A/(Pa·m)]."""
+        return self.streaming
+
+    @property
+    def electroviscous_ratio(self):
+        """Apparent over true viscosity at zero current, L11 / (L11 - L12 L21 / L22) [-]."""
+        return self.hydraulic / (self.hydraulic - self.electroosmotic * self.streaming
+                                 / self.conductive)
+
+    @property
+    def surface_conductivity_excess(self):
+        """L22 minus the bulk conductivity [S/m]: what the walls add."""
+        return self.conductive - self.bulk_conductivity
+
+    @property
+    def dukhin(self):
+        """Dukhin number: surface over bulk conduction, (L22 - K_bulk)/K_bulk [-].
+
+        Equal to K_sigma/(K_bulk A/P) with K_sigma the total surface
+        conductance (diffuse and Stern).
+        """
+        return self.surface_conductivity_excess / self.bulk_conductivity
+
+    @property
+    def coupling_degree(self):
+        """q² = L12 L21 / (L11 L22) [-] (Kedem & Caplan 1965)."""
+        return self.electroosmotic * self.streaming / (self.hydraulic * self.conductive)
+
+    @property
+    def max_efficiency(self):
+        """Maximum efficiency of the linear converter, q²/(1 + sqrt(1 - q²))² [-]."""
+        q2 = self.coupling_degree
+        return q2 / (1.0 + np.sqrt(np.clip(1.0 - q2, 0.0, None)))**2
+
+    @property
+    def counterion_share(self):
+        """Share of the conduction current carried by counter-ions [-].
+
+        Counter-ions are the ions of sign opposite to the wall potential;
+        the Stern conduction counts as counter-ion current. At zero wall
+        potential, cations are counted.
+        """
+        z = self._cond.z_b()
+        sgn = np.sign(self.wall_potential)
+        sgn = np.where(sgn == 0, -1.0, sgn)
+        counter = np.sign(z) == -sgn
+        carried = np.sum(np.where(counter, self._out["ion_current"], 0.0), axis=0) + self._stern
+        return carried / self.conductive
+
+    # -- whole channel --------------------------------------------------------------
+    def conductances(self, length):
+        """Whole-channel transfer coefficients for a channel of ``length`` [m].
+
+        Returns
+        -------
+        dict
+            ``flow_per_pressure`` Q/dp [m³/(s·Pa)], ``flow_per_volt`` Q/V
+            [m³/(s·V)], ``current_per_pressure`` I/dp [A/Pa], ``conductance``
+            I/V [S]. For a slit without width, per metre of width.
+        """
+        L = check_positive("length", length, unit="m")
+        a = self.channel.area / L
+        return {"flow_per_pressure": self.hydraulic * a, "flow_per_volt": self.electroosmotic * a,
+                "current_per_pressure": self.streaming * a, "conductance": self.conductive * a}
+
+    def pump_limits(self, voltage, length):
+        """Electro-osmotic pump limits at ``voltage`` [V] over ``length`` [m].
+
+        Returns
+        -------
+        stall_pressure : ndarray
+            Pressure rise at zero net flow, L12 V / L11 [Pa].
+        free_flow : ndarray
+            Flow rate at zero pressure difference, A L12 V / L [m³/s].
+        """
+        V = check_range("voltage", voltage, -1e5, 1e5, unit="V")
+        L = check_positive("length", length, unit="m")
+        return self.electroosmotic * V / self.hydraulic, self.channel.area * self.electroosmotic * V / L
+
+    def profiles(self, pressure_gradient=1.0, field=1.0):
+        """Profiles across the section for -dp/dx [Pa/m] and E [V/m]; see ``Profiles``."""
+        G = float(check_range("pressure_gradient", pressure_gradient, -1e15, 1e15, unit="Pa/m"))
+        E = float(check_range("field", field, -1e9, 1e9, unit="V/m"))
+        return self._out["profiles"](G, E)
+
+    def as_dict(self):
+        """Flat dict of every coefficient and derived quantity (arrays of the input shape)."""
+        names = ("hydraulic", "electroosmotic", "streaming", "conductive", "reciprocity_residual",
+                 "streaming_potential_coefficient", "electroviscous_ratio", "dukhin",
+                 "coupling_degree", "max_efficiency", "counterion_share", "kappa_size",
+                 "debye_length", "wall_potential", "wall_charge", "bulk_conductivity",
+                 "permittivity", "viscosity", "temperature", "error_estimate", "model")
+        return {n: getattr(self, n) for n in names}
+
+    def __repr__(self):
+        return (f"Result(shape={self.matrix.shape[:-2]}, model={self.requested_model!r}, "
+                f"channel={type(self.channel).__name__})")
