@@ -1,0 +1,228 @@
+"""The coupling-matrix explorer: controls, matrix, derived quantities,
+profiles across the section, 2D fields, regime verdict and export."""
+from __future__ import annotations
+
+import html
+
+import ipywidgets as w
+import numpy as np
+
+from . import compute
+from .common import (CSS, PALETTE, SetupControls, Status, bokeh_widget, download_link,
+                     new_figure)
+from .state import State
+from .units import eng, length_unit, num
+
+__all__ = ["ExplorerView"]
+
+TITLE = "ekexplore — coupling matrix explorer"
+
+
+def matrix_html(ex, state):
+    """The matrix per area and for the whole channel, in engineering units."""
+    m = ex.matrix
+    G1 = 1e6     # 1 kPa/mm in Pa/m
+    E1 = 1e2     # 1 V/cm in V/m
+    area = (
+        "<table class='ekx-table'><tr><th class='l'>per unit area</th>"
+        "<th>per −dp/dx = 1 kPa/mm</th><th>per E = 1 V/cm</th></tr>"
+        f"<tr><td class='l'>mean velocity ⟨u⟩</td><td>{eng(m[0, 0] * G1, 'm/s')}</td>"
+        f"<td>{eng(m[0, 1] * E1, 'm/s')}</td></tr>"
+        f"<tr><td class='l'>mean current density ⟨j⟩</td><td>{eng(m[1, 0] * G1, 'A/m²')}</td>"
+        f"<td>{eng(m[1, 1] * E1, 'A/m²')}</td></tr></table>")
+    c = ex.conductances
+    lpm = 6e7    # m^3/s -> L/min
+    whole = (
+        f"<table class='ekx-table'><tr><th class='l'>whole channel, L = "
+        f"{eng(state.length, 'm')}</th><th>per Δp = 1 kPa</th><th>per ΔV = 1 V</th></tr>"
+        f"<tr><td class='l'>flow rate Q</td>"
+        f"<td>{eng(c['flow_per_pressure'] * 1e3 * lpm, 'L/min')}</td>"
+        f"<td>{eng(c['flow_per_volt'] * lpm, 'L/min')}</td></tr>"
+        f"<tr><td class='l'>current I</td><td>{eng(c['current_per_pressure'] * 1e3, 'A')}</td>"
+        f"<td>{eng(c['conductance'], 'A')}</td></tr></table>")
+    r = ex.result
+    err = compute.scalar(r.error_estimate)
+    foot = (f"<div class='ekx-small'>model: <b>{html.escape(ex.model)}</b> "
+            f"(asked: {html.escape(state.model)}), estimated error {err:.2g}; "
+            f"reciprocity residual |L12−L21|/L12 = {compute.scalar(r.reciprocity_residual):.2g}. "
+            "SI matrix [m²/(Pa·s), m²/(V·s); A/(m·Pa), S/m] = "
+            f"[[{m[0, 0]:.4g}, {m[0, 1]:.4g}], [{m[1, 0]:.4g}, {m[1, 1]:.4g}]]</div>")
+    return f"<div style='display:flex;flex-wrap:wrap'>{area}{whole}</div>{foot}"
+
+
+def derived_html(rows):
+    body = "".join(f"<tr><td class='l'>{html.escape(n)}</td><td>{html.escape(v)}</td>"
+                   f"<td class='l'>{html.escape(m)}</td></tr>" for n, v, m in rows)
+    return ("<table class='ekx-table'><tr><th class='l'>quantity</th><th>value</th>"
+            f"<th class='l'>meaning</th></tr>{body}</table>")
+
+
+class ExplorerView:
+    """Build the explorer on a :class:`State`; ``.widget`` is what to display."""
+
+    def __init__(self, state: State | None = None):
+        from bokeh.layouts import gridplot
+        from bokeh.models import ColumnDataSource, Label, Span
+
+        self.state = state if state is not None else State()
+        self.controls = SetupControls(self.state)
+        self.status = Status()
+        self.verdict = w.HTML()
+        self.matrix = w.HTML()
+        self.derived = w.HTML()
+        self.code = w.Textarea(layout=w.Layout(width="900px", height="190px"),
+                               disabled=False)
+        self.code_button = w.ToggleButton(description="Show code", icon="code",
+                                          tooltip="a Python cell that reproduces this "
+                                                  "computation through the public API")
+        self.code_box = w.VBox([self.code], layout=w.Layout(display="none"))
+        self.code_button.observe(self._toggle_code, "value")
+        self.downloads = w.HTML()
+        self.last = None          # last good compute.Explored
+        self.error = None         # last error message, or None
+        self._signature = None
+
+        # ---- data: one source per figure, replaced in one assignment ----
+        self.sources = {
+            "potential": ColumnDataSource(dict(x=[], y=[])),
+            "concentrations": ColumnDataSource(dict(xs=[], ys=[], color=[], name=[])),
+            "charge": ColumnDataSource(dict(x=[], y=[])),
+            "velocity": ColumnDataSource(dict(x=[], pressure=[], eo=[])),
+            "current": ColumnDataSource(dict(x=[], migration=[], convective=[])),
+        }
+        S = self.sources
+        fw, fh = 300, 215
+        f_phi = new_figure(fw, fh, "potential", "", "potential [mV]")
+        f_phi.line("x", "y", source=S["potential"], color=PALETTE[0], line_width=2)
+        f_c = new_figure(fw, fh, "ion concentrations", "", "concentration [mM]", y_log=True)
+        f_c.multi_line("xs", "ys", source=S["concentrations"], color="color", line_width=2,
+                       legend_field="name")
+        f_rho = new_figure(fw, fh, "charge density", "", "charge density [C/m³]")
+        f_rho.line("x", "y", source=S["charge"], color=PALETTE[3], line_width=2)
+        f_u = new_figure(fw, fh, "velocity", "", "velocity [mm/s]")
+        f_u.line("x", "pressure", source=S["velocity"], color=PALETTE[0], line_width=2,
+                 legend_label="pressure-driven")
+        f_u.line("x", "eo", source=S["velocity"], color=PALETTE[1], line_width=2,
+                 line_dash="dashed", legend_label="electroosmotic")
+        f_j = new_figure(fw, fh, "current density", "", "current density [A/m²]")
+        f_j.line("x", "migration", source=S["current"], color=PALETTE[2], line_width=2,
+                 legend_label="migration")
+        f_j.line("x", "convective", source=S["current"], color=PALETTE[4], line_width=2,
+                 line_dash="dashed", legend_label="convective")
+        self.figures = [f_phi, f_c, f_rho, f_u, f_j]
+        self.debye_spans = []
+        self.debye_labels = []
+        for f in self.figures:
+            span = Span(location=0, dimension="height", line_color="#555555",
+                        line_dash="dotted", line_width=1.5)
+            f.add_layout(span)
+            self.debye_spans.append(span)
+            lab = Label(x=0, y=5, x_units="data", y_units="screen", text="λ_D",
+                        text_font_size="10px", text_color="#444444")
+            f.add_layout(lab)
+            self.debye_labels.append(lab)
+        for f in (f_c, f_u, f_j):
+            f.legend.label_text_font_size = "10px"
+            f.legend.background_fill_alpha = 0.6
+            f.legend.location = "top_left"
+            f.legend.padding = 2
+            f.legend.spacing = 0
+        self.note = w.HTML()
+        self.plots = bokeh_widget(gridplot([[f_phi, f_c, f_rho], [f_u, f_j, None]],
+                                           toolbar_location="right", merge_tools=True))
+        self.field_box = w.VBox([w.HTML("<div class='ekx-small'>This shape is 1D: its "
+                                        "fields across the section are on the profiles "
+                                        "tab.</div>")])
+
+        self.tabs = w.Tab(children=[w.VBox([self.note, self.plots]), self.field_box,
+                                    self.derived,
+                                    w.VBox([w.HBox([self.code_button, self.downloads]),
+                                            self.code_box])])
+        for i, t in enumerate(["Profiles", "2D field", "Derived quantities", "Export"]):
+            self.tabs.set_title(i, t)
+        header = w.HTML(CSS + f"<div class='ekx-title'>{html.escape(TITLE)}</div>"
+                        "<div class='ekx-sub'>Flow and current of an electrolyte in a "
+                        "charged channel: [⟨u⟩, ⟨j⟩] = M · [−dp/dx, E]</div>")
+        right = w.VBox([self.status.widget, self.verdict, self.matrix, self.tabs],
+                       layout=w.Layout(width="940px"))
+        self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
+        self.state.observe(self._changed)
+        self.update()
+
+    # ---- wiring ----------------------------------------------------------------
+    def _changed(self, change):
+        self.update()
+
+    def _toggle_code(self, change):
+        self.code_box.layout.display = None if change["new"] else "none"
+
+    def update(self):
+        """Recompute from the state; on bad input show the message, keep the plots."""
+        sig = tuple(sorted((k, repr(v)) for k, v in self.state.trait_values().items()))
+        if sig == self._signature:
+            return
+        self._signature = sig
+        self.status.busy("computing…")
+        try:
+            ex = compute.explore(self.state)
+        except (ValueError, ArithmeticError) as exc:
+            self.error = str(exc)
+            self.status.error(self.error + " — the plots show the last valid input.")
+            return
+        except Exception as exc:  # never show a traceback on a dashboard
+            self.error = f"{type(exc).__name__}: {exc}"
+            self.status.error("could not compute: " + self.error)
+            return
+        self.error = None
+        self.last = ex
+        self._show(ex)
+        self.status.ok(f"up to date — model {ex.model}")
+
+    def _show(self, ex):
+        st = self.state
+        r = ex.result
+        self.verdict.value = f"<div class='ekx-verdict'>{html.escape(ex.verdict)}</div>"
+        self.matrix.value = matrix_html(ex, st)
+        self.derived.value = derived_html(ex.derived)
+        self.code.value = st.code()
+        self.downloads.value = (download_link("ekexplore_profiles.csv",
+                                              compute.profiles_csv(ex), "profiles (CSV)")
+                                + download_link("ekexplore_matrix.csv",
+                                                compute.matrix_csv(ex, st), "matrix (CSV)"))
+        p = ex.profiles
+        x_si = np.asarray(p.coordinate, dtype=float).reshape(-1)
+        half = float(np.max(x_si))
+        k, unit = length_unit(half)
+        x = x_si * k
+        name = "y" if p.coordinate_name == "y" else "r"
+        xlabel = (f"distance from the mid-plane {name} [{unit}]" if name == "y"
+                  else f"distance from the axis {name} [{unit}]")
+        for f in self.figures:
+            f.xaxis.axis_label = xlabel
+        lam = compute.scalar(p.debye_length)
+        loc = (half - lam) * k
+        for span, lab in zip(self.debye_spans, self.debye_labels):
+            span.location = loc
+            span.visible = loc > 0
+            lab.x = loc
+            lab.visible = loc > 0
+        S = self.sources
+        S["potential"].data = dict(x=x, y=np.asarray(p.potential).reshape(-1) * 1e3)
+        conc = np.asarray(p.concentrations, dtype=float).reshape(len(p.ion_names), -1)
+        S["concentrations"].data = dict(
+            xs=[x] * len(p.ion_names), ys=[np.maximum(c, 1e-30) for c in conc],
+            color=[PALETTE[i % len(PALETTE)] for i in range(len(p.ion_names))],
+            name=list(p.ion_names))
+        S["charge"].data = dict(x=x, y=np.asarray(p.charge_density).reshape(-1))
+        S["velocity"].data = dict(x=x,
+                                  pressure=np.asarray(p.velocity_pressure).reshape(-1) * 1e3,
+                                  eo=np.asarray(p.velocity_electroosmotic).reshape(-1) * 1e3)
+        S["current"].data = dict(x=x, migration=np.asarray(p.current_migration).reshape(-1),
+                                 convective=np.asarray(p.current_convective).reshape(-1))
+        where = ("λ_D = " + eng(lam, "m") + " from the wall (dotted line)" if loc > 0 else
+                 "λ_D = " + eng(lam, "m") + " is larger than the half-size: no line")
+        self.note.value = (
+            "<div class='ekx-small'>Wall at the right edge. Driving for these profiles: "
+            f"Δp = {num(st.pressure_drop / 1e3)} kPa and ΔV = {num(st.voltage)} V over "
+            f"L = {eng(st.length, 'm')} (−dp/dx = {eng(ex.pressure_gradient, 'Pa/m')}, "
+            f"E = {eng(ex.field, 'V/m')}). {where}.</div>")

@@ -1,0 +1,177 @@
+"""The dashboard state: validated inputs, independent of any GUI.
+
+One :class:`State` holds every input the dashboards show, in SI units.
+Widgets link to its traits, tests set them directly, and several views built
+on one state stay in step (in JupyterLab the explorer, the regime maps and the
+device calculator can share one). Building the physics objects
+(:meth:`State.electrolyte`, :meth:`State.wall`, :meth:`State.channel`) goes
+through the public ``ekexplore`` constructors, whose ValueErrors carry the
+readable message a dashboard shows.
+"""
+from __future__ import annotations
+
+import numpy as np
+import traitlets
+
+import ekexplore as ek
+
+__all__ = ["State", "CUSTOM", "SIZE_RANGE", "CONCENTRATION_RANGE"]
+
+#: Name of the custom symmetric electrolyte in the preset list.
+CUSTOM = "custom z:z"
+#: Range of the size slider [m].
+SIZE_RANGE = (5e-9, 1e-3)
+#: Range of the concentration slider [mol/m^3] (1 uM to 1 M).
+CONCENTRATION_RANGE = (1e-3, 1e3)
+
+
+def shape_defaults(shape):
+    """Default parameters of a registered shape, name -> value [SI or deg]."""
+    cls = ek.channels.SHAPES[shape]
+    return {p: float(cls.parameter_info[p].default) for p in cls.parameters}
+
+
+def size_parameter(shape):
+    """Name of the shape parameter driven by the size slider (its first length)."""
+    cls = ek.channels.SHAPES[shape]
+    for p in cls.parameters:
+        if cls.parameter_info[p].kind == "length":
+            return p
+    return cls.parameters[0]
+
+
+class State(traitlets.HasTraits):
+    """Inputs of the dashboards, SI units (angles in degrees).
+
+    Examples
+    --------
+    >>> s = State(concentration=10.0)
+    >>> s.size_name, s.size
+    ('gap', 1e-06)
+    >>> s.shape = "Tube"
+    >>> s.size_name, s.size
+    ('diameter', 1e-06)
+    """
+
+    salt = traitlets.Unicode("KCl")                 # a key of ek.SALTS, or CUSTOM
+    valence = traitlets.Int(1)                      # custom z:z only
+    concentration = traitlets.Float(1.0)            # salt concentration [mol/m^3]
+    temperature = traitlets.Float(298.15)           # [K]
+    wall_mode = traitlets.Unicode("zeta")           # "zeta" | "charge"
+    zeta = traitlets.Float(-0.05)                   # [V]
+    charge_density = traitlets.Float(-0.01)         # [C/m^2]
+    stern_conductance = traitlets.Float(0.0)        # [S]
+    shape = traitlets.Unicode("Slit")               # a key of ek.channels.SHAPES
+    shape_params = traitlets.Dict()                 # name -> value [m, deg or -]
+    model = traitlets.Unicode("auto")               # auto | thin | dh | pb
+    length = traitlets.Float(1e-2)                  # channel length [m]
+    voltage = traitlets.Float(10.0)                 # applied voltage [V]
+    pressure_drop = traitlets.Float(1e5)            # applied pressure drop [Pa]
+
+    MODELS = ("auto", "thin", "dh", "pb")
+
+    def __init__(self, **kwargs):
+        params = kwargs.pop("shape_params", None)
+        size = kwargs.pop("size", None)
+        super().__init__(**kwargs)
+        self.shape_params = dict(shape_defaults(self.shape), **(params or {}))
+        if size is not None:
+            self.size = size
+
+    @traitlets.observe("shape")
+    def _shape_changed(self, change):
+        if change["new"] not in ek.channels.SHAPES:
+            return  # reported by channel()
+        self.shape_params = shape_defaults(change["new"])
+
+    # -- the size slider --------------------------------------------------------
+    @property
+    def size_name(self):
+        return size_parameter(self.shape)
+
+    @property
+    def size(self):
+        """The main size of the shape [m] (gap, diameter, width...)."""
+        return self.shape_params[self.size_name]
+
+    @size.setter
+    def size(self, value):
+        self.shape_params = dict(self.shape_params, **{self.size_name: float(value)})
+
+    def set_param(self, name, value):
+        """Set one shape parameter (replacing the dict, so observers fire)."""
+        self.shape_params = dict(self.shape_params, **{name: float(value)})
+
+    # -- physics objects through the public API ---------------------------------
+    def electrolyte(self, concentration=None):
+        c = self.concentration if concentration is None else concentration
+        if self.salt == CUSTOM:
+            return ek.Electrolyte.symmetric(int(self.valence), c, temperature=self.temperature)
+        return ek.Electrolyte.salt(self.salt, c, temperature=self.temperature)
+
+    def wall(self, zeta=None):
+        if self.wall_mode == "zeta" or zeta is not None:
+            return ek.Wall(zeta=self.zeta if zeta is None else zeta,
+                           stern_conductance=self.stern_conductance)
+        if self.wall_mode == "charge":
+            return ek.Wall(charge_density=self.charge_density,
+                           stern_conductance=self.stern_conductance)
+        raise ValueError(f"wall mode {self.wall_mode!r} must be 'zeta' or 'charge'")
+
+    def channel(self, size=None):
+        if self.shape not in ek.channels.SHAPES:
+            raise ValueError(f"shape {self.shape!r} is not registered; choose one of "
+                             f"{', '.join(ek.channels.SHAPES)}")
+        params = dict(self.shape_params)
+        if size is not None:
+            params[self.size_name] = size
+        return ek.channels.SHAPES[self.shape](**params)
+
+    def check_model(self, model=None):
+        model = self.model if model is None else model
+        if model not in self.MODELS:
+            raise ValueError(f"model {model!r} must be one of {', '.join(self.MODELS)}")
+        return model
+
+    def solve(self, model=None, **overrides):
+        """``ek.solve`` at this state; ``overrides`` may give concentration,
+        size or zeta arrays for batch maps."""
+        return ek.solve(self.channel(overrides.get("size")),
+                        self.electrolyte(overrides.get("concentration")),
+                        self.wall(overrides.get("zeta")),
+                        model=self.check_model(model))
+
+    def ionic_strength_factor(self):
+        """Ionic strength per unit salt concentration [-] of the chosen electrolyte."""
+        return float(np.asarray(self.electrolyte(1.0).ionic_strength))
+
+    # -- export -----------------------------------------------------------------
+    def code(self):
+        """A short runnable Python cell that reproduces the computation."""
+        if self.salt == CUSTOM:
+            el = (f"ek.Electrolyte.symmetric({int(self.valence)}, {self.concentration!r}, "
+                  f"temperature={self.temperature!r})")
+        else:
+            el = (f"ek.Electrolyte.salt({self.salt!r}, {self.concentration!r}, "
+                  f"temperature={self.temperature!r})")
+        if self.wall_mode == "zeta":
+            wall = f"ek.Wall(zeta={self.zeta!r}"
+        else:
+            wall = f"ek.Wall(charge_density={self.charge_density!r}"
+        wall += f", stern_conductance={self.stern_conductance!r})" if self.stern_conductance \
+            else ")"
+        args = ", ".join(f"{k}={v!r}" for k, v in self.shape_params.items())
+        if getattr(ek, self.shape, None) is ek.channels.SHAPES.get(self.shape):
+            ch = f"ek.{self.shape}({args})"
+        else:
+            ch = f"ek.channels.SHAPES[{self.shape!r}]({args})"
+        return "\n".join([
+            "import ekexplore as ek",
+            "",
+            f"electrolyte = {el}",
+            f"wall = {wall}",
+            f"channel = {ch}",
+            f"result = ek.solve(channel, electrolyte, wall, model={self.model!r})",
+            "print(result.matrix)  # [<u>, <j>] = matrix @ [-dp/dx, E], SI per unit area",
+            f"print(result.conductances(length={self.length!r}))  # whole channel, SI",
+        ])
