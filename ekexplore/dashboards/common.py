@@ -25,22 +25,22 @@ _BOKEH_LOADED = False
 
 CSS = """
 <style>
-.ekx-title {font-size: 18px; font-weight: 600; margin: 2px 0 4px 0; color: #1b2a38;}
-.ekx-sub {font-size: 12px; color: #4a5a68; margin: 0 0 6px 0;}
+.ekx-title {font-size: 18px; font-weight: 600; margin: 0; color: #1b2a38;}
+.ekx-sub {font-size: 12px; color: #4a5a68; margin: 0;}
 .ekx-status {font-size: 13px; padding: 3px 8px; border-radius: 3px; min-height: 20px;}
 .ekx-ok {background: #eef5ee; color: #1f4d2b;}
 .ekx-busy {background: #fff6dd; color: #5c4400;}
 .ekx-error {background: #fbe9e4; color: #7a1f0c; font-weight: 600;}
-.ekx-verdict {font-size: 14px; padding: 6px 10px; background: #eef3f8;
+.ekx-verdict {font-size: 13.5px; line-height: 1.35; padding: 4px 10px; background: #eef3f8;
               border-left: 4px solid #0072B2; margin: 4px 0;}
 .ekx-table {border-collapse: collapse; font-size: 12.5px; margin: 2px 6px 2px 0;}
 .ekx-table th, .ekx-table td {border: 1px solid #c9d3dc; padding: 2px 6px; text-align: right;}
 .ekx-table th {background: #f1f4f7; font-weight: 600;}
 .ekx-table td.l, .ekx-table th.l {text-align: left;}
-.ekx-small {font-size: 11.5px; color: #4a5a68;}
+.ekx-small {font-size: 11.5px; line-height: 1.3; color: #4a5a68;}
 .ekx-caution {font-size: 12.5px; padding: 6px 10px; background: #fff3e6;
               border-left: 4px solid #D55E00; margin: 4px 0;}
-.ekx-head {font-size: 13px; font-weight: 600; margin: 6px 0 2px 0; color: #1b2a38;}
+.ekx-head {font-size: 13px; font-weight: 600; margin: 2px 0 0 0; color: #1b2a38;}
 </style>
 """
 
@@ -133,9 +133,15 @@ def _link(widget, state, name, to_state=None, to_widget=None):
     return traitlets.link((state, name), (widget, "value"), transform=(to_widget, to_state))
 
 
-_SLIDER = dict(continuous_update=False, style={"description_width": "150px"},
-               layout=w.Layout(width="320px"))
-_TEXT = dict(style={"description_width": "150px"}, layout=w.Layout(width="250px"))
+def _slider():
+    """Keyword arguments of a slider: a fresh Layout each time (a shared Layout
+    would hide every widget at once)."""
+    return dict(continuous_update=False, style={"description_width": "125px"},
+                layout=w.Layout(width="335px"))
+
+
+def _text():
+    return dict(style={"description_width": "125px"}, layout=w.Layout(width="260px"))
 
 
 class SetupControls:
@@ -151,36 +157,36 @@ class SetupControls:
         self.links = []
         # electrolyte
         self.salt = w.Dropdown(options=list(ek.SALTS) + [CUSTOM], description="electrolyte",
-                               **_TEXT)
-        self.valence = w.Dropdown(options=[1, 2, 3, 4], description="valence z (z:z)", **_TEXT)
+                               **_text())
+        self.valence = w.Dropdown(options=[1, 2, 3, 4], description="valence z (z:z)", **_text())
         self.concentration = w.FloatLogSlider(
             base=10, min=-3, max=3, step=0.05, readout_format=".3g",
-            description="concentration [mM]", **_SLIDER)
+            description="salt conc. [mM]", **_slider())
         self.temperature = w.FloatSlider(min=0.0, max=100.0, step=1.0, readout_format=".0f",
-                                         description="temperature [°C]", **_SLIDER)
+                                         description="temperature [°C]", **_slider())
         # wall
         self.wall_mode = w.ToggleButtons(options=[("ζ potential", "zeta"),
                                                   ("surface charge", "charge")],
                                          style={"button_width": "115px"})
         self.zeta = w.FloatSlider(min=-200.0, max=200.0, step=1.0, readout_format=".0f",
-                                  description="ζ [mV]", **_SLIDER)
+                                  description="ζ [mV]", **_slider())
         self.charge = w.FloatSlider(min=-300.0, max=300.0, step=1.0, readout_format=".0f",
-                                    description="charge [mC/m²]", **_SLIDER)
-        self.stern = w.FloatText(description="Stern conductance [nS]", **_TEXT)
+                                    description="charge [mC/m²]", **_slider())
+        self.stern = w.FloatText(description="Stern cond. [nS]", **_text())
         # channel
-        self.shape = w.Dropdown(options=list(ek.channels.SHAPES), description="shape", **_TEXT)
+        self.shape = w.Dropdown(options=list(ek.channels.SHAPES), description="shape", **_text())
         lo, hi = SIZE_RANGE
         self.size = w.FloatLogSlider(base=10, min=_log10(lo * 1e6), max=_log10(hi * 1e6),
                                      step=0.02, readout_format=".3g",
-                                     description="size [µm]", **_SLIDER)
+                                     description="size [µm]", **_slider())
         self.extra_box = w.VBox([])
         self.extra = {}
         self.model = w.ToggleButtons(options=list(State.MODELS), description="model",
                                      style={"button_width": "52px"})
         self.length = w.FloatLogSlider(base=10, min=-2, max=3, step=0.05, readout_format=".3g",
-                                       description="channel length [mm]", **_SLIDER)
-        self.voltage = w.FloatText(description="voltage [V]", **_TEXT)
-        self.pressure = w.FloatText(description="pressure drop [kPa]", **_TEXT)
+                                       description="length [mm]", **_slider())
+        self.voltage = w.FloatText(description="voltage [V]", **_text())
+        self.pressure = w.FloatText(description="pressure drop [kPa]", **_text())
 
         L = self.links.append
         L(_link(self.salt, s, "salt"))
@@ -214,7 +220,8 @@ class SetupControls:
         if include_drive:
             rows += [section_title("Channel length and driving"), self.length, self.voltage,
                      self.pressure]
-        self.widget = w.VBox(rows, layout=w.Layout(width="340px", min_width="340px"))
+        self.stern.description_tooltip = "surface conductance of the Stern layer [nS]"
+        self.widget = w.VBox(rows, layout=w.Layout(width="345px", min_width="345px"))
 
     # -- shape parameters -------------------------------------------------------
     def _build_extra(self):
@@ -233,18 +240,18 @@ class SetupControls:
                 hi = min(info.maximum, SIZE_RANGE[1]) * 1e6
                 wid = w.FloatLogSlider(base=10, min=_log10(lo), max=_log10(hi), step=0.02,
                                        readout_format=".3g", description=f"{info.label} [µm]",
-                                       **_SLIDER)
+                                       **_slider())
                 scale = 1e-6
             elif info.kind == "angle":
                 wid = w.FloatSlider(min=info.minimum, max=info.maximum, step=0.5,
                                     readout_format=".1f", description=f"{info.label} [°]",
-                                    **_SLIDER)
+                                    **_slider())
                 scale = 1.0
             else:
                 wid = w.FloatSlider(min=info.minimum, max=info.maximum,
                                     step=(info.maximum - info.minimum) / 200,
                                     readout_format=".3g", description=f"{info.label} [-]",
-                                    **_SLIDER)
+                                    **_slider())
                 scale = 1.0
             wid.description_tooltip = wid.description
             wid.observe(lambda ch, p=p, scale=scale: self._param_from_widget(p, ch, scale),

@@ -11,7 +11,7 @@ from . import compute
 from .common import (CSS, PALETTE, SetupControls, Status, bokeh_widget, download_link,
                      new_figure)
 from .state import State
-from .units import eng, length_unit, num
+from .units import eng, length_unit, num, prefix_scale
 
 __all__ = ["ExplorerView"]
 
@@ -42,11 +42,11 @@ def matrix_html(ex, state):
         f"<td>{eng(c['conductance'], 'A')}</td></tr></table>")
     r = ex.result
     err = compute.scalar(r.error_estimate)
+    slit_note = "; slit figures are per metre of width" if state.shape == "Slit" else ""
     foot = (f"<div class='ekx-small'>model: <b>{html.escape(ex.model)}</b> "
             f"(asked: {html.escape(state.model)}), estimated error {err:.2g}; "
-            f"reciprocity residual |L12−L21|/L12 = {compute.scalar(r.reciprocity_residual):.2g}. "
-            "SI matrix [m²/(Pa·s), m²/(V·s); A/(m·Pa), S/m] = "
-            f"[[{m[0, 0]:.4g}, {m[0, 1]:.4g}], [{m[1, 0]:.4g}, {m[1, 1]:.4g}]]</div>")
+            f"reciprocity residual |L12−L21|/L12 = {compute.scalar(r.reciprocity_residual):.2g}"
+            f"{slit_note}.</div>")
     return f"<div style='display:flex;flex-wrap:wrap'>{area}{whole}</div>{foot}"
 
 
@@ -91,20 +91,20 @@ class ExplorerView:
             "current": ColumnDataSource(dict(x=[], migration=[], convective=[])),
         }
         S = self.sources
-        fw, fh = 300, 215
+        fw, fh = 290, 190
         f_phi = new_figure(fw, fh, "potential", "", "potential [mV]")
         f_phi.line("x", "y", source=S["potential"], color=PALETTE[0], line_width=2)
         f_c = new_figure(fw, fh, "ion concentrations", "", "concentration [mM]", y_log=True)
         f_c.multi_line("xs", "ys", source=S["concentrations"], color="color", line_width=2,
                        legend_field="name")
-        f_rho = new_figure(fw, fh, "charge density", "", "charge density [C/m³]")
+        f_rho = new_figure(fw, fh, "space charge density", "", "charge density [C/m³]")
         f_rho.line("x", "y", source=S["charge"], color=PALETTE[3], line_width=2)
-        f_u = new_figure(fw, fh, "velocity", "", "velocity [mm/s]")
+        f_u = new_figure(fw, fh, "axial velocity", "", "velocity [m/s]")
         f_u.line("x", "pressure", source=S["velocity"], color=PALETTE[0], line_width=2,
                  legend_label="pressure-driven")
         f_u.line("x", "eo", source=S["velocity"], color=PALETTE[1], line_width=2,
                  line_dash="dashed", legend_label="electroosmotic")
-        f_j = new_figure(fw, fh, "current density", "", "current density [A/m²]")
+        f_j = new_figure(fw, fh, "axial current density", "", "current density [A/m²]")
         f_j.line("x", "migration", source=S["current"], color=PALETTE[2], line_width=2,
                  legend_label="migration")
         f_j.line("x", "convective", source=S["current"], color=PALETTE[4], line_width=2,
@@ -128,26 +128,27 @@ class ExplorerView:
             f.legend.padding = 2
             f.legend.spacing = 0
         self.note = w.HTML()
-        self.plots = bokeh_widget(gridplot([[f_phi, f_c, f_rho], [f_u, f_j, None]],
-                                           toolbar_location="right", merge_tools=True))
+        self._grid = gridplot([[f_phi, f_c, f_rho], [f_u, f_j, None]],
+                              toolbar_location="right", merge_tools=True)
         self.field_box = w.VBox([w.HTML("<div class='ekx-small'>This shape is 1D: its "
                                         "fields across the section are on the profiles "
                                         "tab.</div>")])
 
+        self.state.observe(self._changed)
+        self.update()   # fill the sources before BokehJS first renders them
+        self.plots = bokeh_widget(self._grid)
         self.tabs = w.Tab(children=[w.VBox([self.note, self.plots]), self.field_box,
                                     self.derived,
                                     w.VBox([w.HBox([self.code_button, self.downloads]),
                                             self.code_box])])
         for i, t in enumerate(["Profiles", "2D field", "Derived quantities", "Export"]):
             self.tabs.set_title(i, t)
-        header = w.HTML(CSS + f"<div class='ekx-title'>{html.escape(TITLE)}</div>"
-                        "<div class='ekx-sub'>Flow and current of an electrolyte in a "
-                        "charged channel: [⟨u⟩, ⟨j⟩] = M · [−dp/dx, E]</div>")
+        header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
+                        "<span class='ekx-sub'>&nbsp; flow and current of an electrolyte in "
+                        "a charged channel: [⟨u⟩, ⟨j⟩] = M · [−dp/dx, E]</span>")
         right = w.VBox([self.status.widget, self.verdict, self.matrix, self.tabs],
                        layout=w.Layout(width="940px"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
-        self.state.observe(self._changed)
-        self.update()
 
     # ---- wiring ----------------------------------------------------------------
     def _changed(self, change):
@@ -213,16 +214,24 @@ class ExplorerView:
             xs=[x] * len(p.ion_names), ys=[np.maximum(c, 1e-30) for c in conc],
             color=[PALETTE[i % len(PALETTE)] for i in range(len(p.ion_names))],
             name=list(p.ion_names))
-        S["charge"].data = dict(x=x, y=np.asarray(p.charge_density).reshape(-1))
-        S["velocity"].data = dict(x=x,
-                                  pressure=np.asarray(p.velocity_pressure).reshape(-1) * 1e3,
-                                  eo=np.asarray(p.velocity_electroosmotic).reshape(-1) * 1e3)
-        S["current"].data = dict(x=x, migration=np.asarray(p.current_migration).reshape(-1),
-                                 convective=np.asarray(p.current_convective).reshape(-1))
+        rho = np.asarray(p.charge_density, dtype=float).reshape(-1)
+        f, pre = prefix_scale(np.max(np.abs(rho)))
+        self.figures[2].yaxis.axis_label = f"charge density [{pre}C/m³]"
+        S["charge"].data = dict(x=x, y=rho * f)
+        up = np.asarray(p.velocity_pressure, dtype=float).reshape(-1)
+        ue = np.asarray(p.velocity_electroosmotic, dtype=float).reshape(-1)
+        f, pre = prefix_scale(max(np.max(np.abs(up)), np.max(np.abs(ue))))
+        self.figures[3].yaxis.axis_label = f"velocity [{pre}m/s]"
+        S["velocity"].data = dict(x=x, pressure=up * f, eo=ue * f)
+        jm = np.asarray(p.current_migration, dtype=float).reshape(-1)
+        jc = np.asarray(p.current_convective, dtype=float).reshape(-1)
+        f, pre = prefix_scale(max(np.max(np.abs(jm)), np.max(np.abs(jc))))
+        self.figures[4].yaxis.axis_label = f"current density [{pre}A/m²]"
+        S["current"].data = dict(x=x, migration=jm * f, convective=jc * f)
         where = ("λ_D = " + eng(lam, "m") + " from the wall (dotted line)" if loc > 0 else
                  "λ_D = " + eng(lam, "m") + " is larger than the half-size: no line")
         self.note.value = (
-            "<div class='ekx-small'>Wall at the right edge. Driving for these profiles: "
+            "<div class='ekx-small'>Wall at the right edge. Driving: "
             f"Δp = {num(st.pressure_drop / 1e3)} kPa and ΔV = {num(st.voltage)} V over "
             f"L = {eng(st.length, 'm')} (−dp/dx = {eng(ex.pressure_gradient, 'Pa/m')}, "
             f"E = {eng(ex.field, 'V/m')}). {where}.</div>")

@@ -55,3 +55,21 @@ def length_unit(scale_m):
     if s < 1e-3:
         return 1e6, "µm"
     return 1e3, "mm"
+
+
+def prefix_scale(max_abs):
+    """(factor, prefix) so that ``max_abs * factor`` reads between 1 and 1000.
+
+    >>> prefix_scale(6e5)
+    (0.001, 'k')
+    >>> prefix_scale(0.002)
+    (1000.0, 'm')
+    """
+    v = abs(float(max_abs))
+    if not math.isfinite(v) or v == 0.0:
+        return 1.0, ""
+    scale, prefix = _PREFIXES[0]
+    for s, p in _PREFIXES:
+        if v >= s * 0.9995:
+            scale, prefix = s, p
+    return 1.0 / scale, prefix

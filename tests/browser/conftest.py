@@ -1,0 +1,111 @@
+"""Real-browser fixtures: an ``ekexplore serve`` server and Debian's chromium.
+
+The browser is Debian's chromium launched by Playwright through
+``executable_path`` (Playwright never downloads one here). When chromium or
+the playwright package is missing the tests are skipped with the reason
+printed; ``tools/test.sh`` installs both where it can, and sets
+EKEXPLORE_REQUIRE_BROWSER=1 on CI so a missing browser fails instead.
+"""
+from __future__ import annotations
+
+import os
+import shutil
+import signal
+import subprocess
+import sys
+import time
+import urllib.request
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[2]
+ARTIFACTS = ROOT / "test-artifacts"
+
+CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+                 "--disable-background-networking", "--disable-component-update",
+                 "--disable-sync"]
+
+
+def _skip_or_fail(reason):
+    if os.environ.get("EKEXPLORE_REQUIRE_BROWSER") == "1":
+        pytest.fail(f"browser tests required but cannot run: {reason}")
+    print(f"\nSKIPPING browser tests: {reason}", file=sys.stderr)
+    pytest.skip(reason)
+
+
+@pytest.fixture(scope="session")
+def chromium_path():
+    path = shutil.which("chromium") or shutil.which("chromium-browser")
+    if path is None:
+        _skip_or_fail("no 'chromium' on PATH (install Debian's: apt-get install -y chromium)")
+    try:
+        import playwright.sync_api  # noqa: F401
+    except ImportError:
+        _skip_or_fail("the playwright python package is not installed (pip install playwright)")
+    return path
+
+
+@pytest.fixture(scope="session")
+def server():
+    """``ekexplore serve`` on a free localhost port; killed at the end."""
+    log = ARTIFACTS / "serve.log"
+    ARTIFACTS.mkdir(exist_ok=True)
+    out = open(log, "w")
+    proc = subprocess.Popen([sys.executable, "-m", "ekexplore", "serve", "--cull-idle", "120",
+                             "--cull-interval", "30"],
+                            stdout=subprocess.PIPE, stderr=out, text=True,
+                            start_new_session=True, cwd=ROOT)
+    base = None
+    deadline = time.monotonic() + 60
+    lines = []
+    try:
+        while time.monotonic() < deadline and base is None:
+            line = proc.stdout.readline()
+            if not line:
+                if proc.poll() is not None:
+                    break
+                continue
+            lines.append(line)
+            if "read-only) at " in line:
+                base = line.split(" at ", 1)[1].strip().rstrip("/")
+        if base is None:
+            pytest.fail("ekexplore serve printed no URL: " + "".join(lines))
+        # Wait on a static asset: fetching a notebook URL would start a kernel.
+        probe = base + "/voila/templates/lab/static/voila.js"
+        while time.monotonic() < deadline:
+            try:
+                with urllib.request.urlopen(probe, timeout=2) as resp:
+                    if resp.status == 200:
+                        break
+            except OSError:
+                time.sleep(0.3)
+        else:
+            pytest.fail(f"server did not answer at {probe}")
+        yield {"base": base, "printed": "".join(lines), "proc": proc}
+    finally:
+        if proc.poll() is None:
+            os.killpg(proc.pid, signal.SIGINT)
+            try:
+                proc.wait(timeout=15)
+            except subprocess.TimeoutExpired:
+                os.killpg(proc.pid, signal.SIGKILL)
+                proc.wait(timeout=5)
+        out.close()
+
+
+@pytest.fixture(scope="session")
+def browser(chromium_path):
+    from playwright.sync_api import sync_playwright
+    with sync_playwright() as p:
+        b = p.chromium.launch(executable_path=chromium_path, headless=True, args=CHROMIUM_ARGS)
+        try:
+            yield b
+        finally:
+            b.close()
+
+
+@pytest.fixture
+def artifacts():
+    ARTIFACTS.mkdir(exist_ok=True)
+    return ARTIFACTS
