@@ -214,17 +214,23 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-13, max_iter=200
         big = np.max(np.abs(delta), axis=1)
         scale = np.minimum(1.0, 4.0 / np.maximum(big, 1e-300))
         step = delta * scale[:, None]
-        # backtracking on the convex energy (only matters far from the solution)
-        e0 = energy(ph, active)
+        # backtracking on the convex energy; only far from the solution, where
+        # a full Newton step may overshoot (near it the step is accepted)
         t = np.ones(len(active))
         trial = ph + step
-        for _ in range(30):
-            e1 = energy(trial, active)
-            bad = e1 > e0 + 1e-12 * np.abs(e0) + 1e-300
-            if not np.any(bad):
-                break
-            t = np.where(bad, 0.5 * t, t)
-            trial = ph + t[:, None] * step
+        far = np.flatnonzero(np.max(np.abs(step), axis=1) > 0.25)
+        if far.size:
+            sub = active[far]
+            e0 = energy(ph[far], sub)
+            tf = np.ones(far.size)
+            for _ in range(30):
+                e1 = energy(trial[far], sub)
+                bad = e1 > e0 + 1e-12 * np.abs(e0) + 1e-300
+                if not np.any(bad):
+                    break
+                tf = np.where(bad, 0.5 * tf, tf)
+                trial[far] = ph[far] + tf[:, None] * step[far]
+            t[far] = tf
         phi[active] = trial
         done = (big * t * scale < tol * (1.0 + np.max(np.abs(trial), axis=1))) & (t == 1.0) \
             & (scale == 1.0)

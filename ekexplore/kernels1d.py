@@ -234,9 +234,25 @@ def _pb_wall_estimate(b, m):
 
 
 def _pb(b, m, accuracy=1e-6):
+    """pb on a batch: points are grouped by grid size, so that every point's
+    grid depends on its own parameters only (a batch gives the same numbers
+    as single calls)."""
     phi_est = _pb_wall_estimate(b, m)
     x0 = _inner_scale(b, m, phi_est)
-    n = int(max(PB_MIN_CELLS, np.ceil(np.max(np.log1p(1.0 / x0)) / PB_DXI)))
+    need = np.maximum(PB_MIN_CELLS, np.ceil(np.log1p(1.0 / x0) / PB_DXI))
+    level = PB_MIN_CELLS * 2 ** np.ceil(np.log2(need / PB_MIN_CELLS)).astype(int)
+    out = None
+    for n in np.unique(level):
+        idx = np.flatnonzero(level == n)
+        part = _pb_group(_subset(b, idx), m, x0[idx], int(n))
+        if out is None:
+            out = {k: (np.empty(v.shape[:-1] + (b["B"],), dtype=v.dtype)) for k, v in part.items()}
+        for k, v in part.items():
+            out[k][..., idx] = v
+    return out
+
+
+def _pb_group(b, m, x0, n):
     cond = "potential" if b["phi_w"] is not None else "charge"
     value = b["phi_w"] if cond == "potential" else b["sigma_s"]
     coarse = make_grid(m, x0, n)
@@ -246,18 +262,17 @@ def _pb(b, m, accuracy=1e-6):
     guess[:, ::2] = phi_c
     guess[:, 1::2] = 0.5 * (phi_c[:, 1:] + phi_c[:, :-1])
     phi_f = solve_pb(fine, b["K"], b["z"], b["w"], cond, value, phi0=guess)
-    res = []
-    for g, ph in ((coarse, phi_c), (fine, phi_f)):
-        res.append(_pb_scaled(b, m, g, ph))
-    (lc, mc_c, cv_c, mf_c), (lf, mc_f, cv_f, mf_f) = res
-    rich = lambda a, b_: (4.0 * b_ - a) / 3.0  # noqa: E731
+    (lc, mc_c, cv_c, mf_c), (lf, mc_f, cv_f, mf_f) = (
+        _pb_scaled(b, m, coarse, phi_c), _pb_scaled(b, m, fine, phi_f))
+
+    def rich(a, c_):
+        return (4.0 * c_ - a) / 3.0
     L12s, L21s = rich(lc, lf)
     mean_c = rich(mc_c, mc_f)
-    conv_s = rich(cv_c, cv_f)
+    conv_ion_s = rich(cv_c, cv_f)
     mean_f = rich(mf_c, mf_f)
-    phi_w = phi_f[:, 0]
+    phi_w = rich(phi_c[:, 0], phi_f[:, 0])
     mig_ion = b["lam"] * b["c"] * mean_c
-    conv_ion_s = conv_s
     # wall charge from overall neutrality: sigma P = -int rho dA
     rho_scale = b["eps"] * b["kappa"]**2 * b["VT"]
     sigma = -(b["R"] / (m + 1)) * rho_scale * mean_f
@@ -272,8 +287,7 @@ def _pb(b, m, accuracy=1e-6):
     scales = np.vstack([np.abs(lf), np.abs(mig_f)[None]])
     err = np.max(diffs / np.maximum(scales, 1e-300), axis=0)
     err = np.where(np.abs(phi_w) > 0, err, np.abs(mig_f - mig_c) / 3.0 / mig_f)
-    out = _assemble(b, m, L12s, L21s, mig_ion, conv_ion_s, phi_w, sigma, err, "pb")
-    return out
+    return _assemble(b, m, L12s, L21s, mig_ion, conv_ion_s, phi_w, sigma, err, "pb")
 
 
 # --------------------------------------------------------------------------

@@ -29,7 +29,9 @@ def _conditions(channel, electrolyte, wall):
     shape = np.broadcast_shapes(channel.shape, electrolyte.shape, wall.shape)
     def bc(a):
         return np.broadcast_to(np.asarray(a, dtype=float), shape)
-    def bcn(a):
+    def bcn(a):  # (n, *own_shape) -> (n, *shape), aligning the trailing axes
+        a = np.asarray(a, dtype=float)
+        a = a.reshape(a.shape[:1] + (1,) * (len(shape) - (a.ndim - 1)) + a.shape[1:])
         return np.broadcast_to(a, a.shape[:1] + shape)
     return Conditions(
         shape=shape, temperature=bc(electrolyte.temperature),
