@@ -140,3 +140,167 @@ def profiles_csv(ex):
     buf = io.StringIO()
     frame.to_csv(buf, index=False)
     return buf.getvalue()
+
+
+# ---------------------------------------------------------------------------
+# regime maps
+# ---------------------------------------------------------------------------
+#: colour layers of the regime maps: key -> (title, colour scale, low, high)
+LAYERS = {
+    "eo_fraction": ("electroosmotic coefficient / slip value [-]", "linear", 0.0, 1.0),
+    "thin_error": ("relative error of the thin (slip) model vs pb, electroosmotic [-]",
+                   "log", 1e-4, 10.0),
+    "dh_error": ("relative error of the Debye–Hückel model vs pb, electroosmotic [-]",
+                 "log", 1e-4, 10.0),
+    "dukhin": ("Dukhin number Du [-]", "log", 1e-3, 1e3),
+    "counterion_share": ("counter-ion share of the conduction current [-]", "linear", 0.5, 1.0),
+}
+#: kappa*half-size range the solver accepts (ek.solve raises outside it)
+KAPPA_SIZE_RANGE = (1e-3, 1e5)
+#: contour levels of kappa*half-size
+KAPPA_LEVELS = (1.0, 10.0, 100.0)
+
+
+def _edges_log(lo, hi, n):
+    e = np.logspace(np.log10(lo), np.log10(hi), n + 1)
+    return e[:-1], e[1:], np.sqrt(e[:-1] * e[1:])
+
+
+def _edges_lin(lo, hi, n):
+    e = np.linspace(lo, hi, n + 1)
+    return e[:-1], e[1:], 0.5 * (e[:-1] + e[1:])
+
+
+def half_size_ratio(state):
+    """Half-size over the size slider's parameter for the current shape [-]."""
+    ch = state.channel()
+    return scalar(ch.half_size) / state.size
+
+
+def _layers(state, concentration, size, zeta=None):
+    """Every colour layer at flat arrays of points: one batch solve per model."""
+    kw = dict(concentration=concentration, size=size)
+    if zeta is not None:
+        kw["zeta"] = zeta
+    pb = state.solve("pb", **kw)
+    thin = state.solve("thin", **kw)
+    dh = state.solve("dh", **kw)
+    ref = np.asarray(pb.electroosmotic, dtype=float)
+    return {
+        "eo_fraction": ref / np.asarray(thin.electroosmotic, dtype=float),
+        "thin_error": np.abs(np.asarray(thin.electroosmotic) - ref) / np.abs(ref),
+        "dh_error": np.abs(np.asarray(dh.electroosmotic) - ref) / np.abs(ref),
+        "dukhin": np.asarray(pb.dukhin, dtype=float),
+        "counterion_share": np.asarray(pb.counterion_share, dtype=float),
+        "kappa_size": np.asarray(pb.kappa_size, dtype=float),
+    }
+
+
+def map_size(state, n=36):
+    """Map over ionic strength [mol/m^3] x channel size [m] at the state's wall.
+
+    Returns a dict of flat arrays over the valid cells (cell edges and
+    centres, each layer), the kappa*size contour lines and the operating point.
+    """
+    from .state import CONCENTRATION_RANGE, SIZE_RANGE
+    factor = state.ionic_strength_factor()
+    i0, i1, ic = _edges_log(CONCENTRATION_RANGE[0], CONCENTRATION_RANGE[1], n)
+    s0, s1, sc = _edges_log(SIZE_RANGE[0], SIZE_RANGE[1], n)
+    I, S = np.meshgrid(ic, sc, indexing="ij")
+    lam = ek.debye_length(I, state.temperature)
+    ratio = half_size_ratio(state)
+    ka = ratio * S / lam
+    ok = (ka >= KAPPA_SIZE_RANGE[0] * 1.01) & (ka <= KAPPA_SIZE_RANGE[1] * 0.99)
+    layers = _layers(state, I[ok] / factor, S[ok])
+    ii, ss = np.nonzero(ok)
+    out = dict(left=i0[ii], right=i1[ii], bottom=s0[ss], top=s1[ss], x=ic[ii], y=sc[ss],
+               **layers)
+    # contours kappa*half-size = level: size = level * lambda_D / ratio
+    Ic = np.logspace(np.log10(CONCENTRATION_RANGE[0]), np.log10(CONCENTRATION_RANGE[1]), 60)
+    lam_c = np.asarray(ek.debye_length(Ic, state.temperature), dtype=float)
+    contours = {lev: (Ic, lev * lam_c / ratio) for lev in KAPPA_LEVELS}
+    point = (state.concentration * factor, state.size)
+    return {"cells": out, "contours": contours, "point": point, "n_valid": int(ok.sum()),
+            "n_cells": n * n}
+
+
+def map_kappa_zeta(state, n=36, phi_max=8.0):
+    """Map over kappa*half-size x dimensionless wall potential e|zeta|/kT.
+
+    The salt concentration is the state's; the size and zeta vary. The sign
+    of zeta is the state's (or of the computed wall potential for a
+    constant-charge wall).
+    """
+    k0, k1, kc = _edges_log(0.1, 1000.0, n)
+    p0, p1, pc = _edges_lin(0.0, phi_max, n)
+    pc = np.maximum(pc, 1e-3)
+    K, P = np.meshgrid(kc, pc, indexing="ij")
+    lam = scalar(state.electrolyte().debye_length)
+    ratio = half_size_ratio(state)
+    VT = constants.k * state.temperature / constants.e
+    here = state.solve("thin" if state.wall_mode == "zeta" else state.model)
+    sign = -1.0 if scalar(here.wall_potential) <= 0 else 1.0
+    size = K * lam / ratio
+    ok = (size >= ek.channels.SIZE_MIN * 1.001) & (size <= ek.channels.SIZE_MAX * 0.999)
+    layers = _layers(state, state.concentration, size[ok], zeta=sign * P[ok] * VT)
+    kk, pp = np.nonzero(ok)
+    out = dict(left=k0[kk], right=k1[kk], bottom=p0[pp], top=p1[pp], x=kc[kk], y=pc[pp],
+               **layers)
+    point = (scalar(here.kappa_size), abs(scalar(here.wall_potential)) / VT)
+    return {"cells": out, "point": point, "debye_length": lam, "ratio": ratio,
+            "sign": sign, "thermal_voltage": VT, "n_valid": int(ok.sum()), "n_cells": n * n}
+
+
+# ---------------------------------------------------------------------------
+# device calculator
+# ---------------------------------------------------------------------------
+@dataclass
+class Device:
+    """Whole-channel figures of a device at the state's length, voltage, pressure."""
+
+    result: object
+    conductances: dict            # SI
+    flow: float                   # Q [m^3/s]
+    current: float                # I [A]
+    power: float                  # V I [W]
+    stall_pressure: float         # [Pa]
+    free_flow: float              # [m^3/s]
+    streaming_voltage: float      # open-circuit voltage at the pressure drop [V]
+    streaming_current: float      # short-circuit current at the pressure drop [A]
+    max_efficiency: float         # [-]
+    load: np.ndarray              # load resistances [ohm]
+    load_power: np.ndarray        # [W]
+    load_efficiency: np.ndarray   # [-]
+    best_load: float              # load of maximum efficiency [ohm]
+
+
+def device(state, n_load=121):
+    """Flow, current and power of the channel; pump and generator curves.
+
+    Whole channel (Q = a dp + b V, I = c dp + g V with the conductances of
+    ``Result.conductances``). Generator: the pressure drop drives the channel
+    into a load R; the current I = c dp + g V returns through R, so
+    V = -c dp R / (1 + g R), load power V^2/R and efficiency
+    V^2/R / (Q dp).
+    """
+    r = state.solve()
+    c = {k: scalar(v) for k, v in r.conductances(state.length).items()}
+    a, b, cc, g = (c["flow_per_pressure"], c["flow_per_volt"], c["current_per_pressure"],
+                   c["conductance"])
+    dp, V = state.pressure_drop, state.voltage
+    Q = a * dp + b * V
+    I = cc * dp + g * V
+    stall, free = (scalar(x) for x in r.pump_limits(V, state.length))
+    Rc = 1.0 / g
+    R = Rc * np.logspace(-3, 3, n_load)
+    Vl = -cc * dp * R / (1.0 + g * R)
+    Pl = Vl**2 / R
+    Ql = a * dp + b * Vl
+    with np.errstate(divide="ignore", invalid="ignore"):
+        eff = np.where(Ql * dp > 0, Pl / (Ql * dp), 0.0)
+    q2 = scalar(r.coupling_degree)
+    best = Rc / np.sqrt(max(1.0 - q2, 1e-300))
+    return Device(result=r, conductances=c, flow=Q, current=I, power=V * I,
+                  stall_pressure=stall, free_flow=free, streaming_voltage=-cc * dp / g,
+                  streaming_current=cc * dp, max_efficiency=scalar(r.max_efficiency),
+                  load=R, load_power=Pl, load_efficiency=eff, best_load=best)

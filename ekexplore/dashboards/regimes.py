@@ -1,0 +1,271 @@
+"""Regime maps: ionic strength x channel size, and kappa*size x dimensionless
+zeta, with switchable colour layers, kappa*size contours, the operating
+point, hover readouts, and taps that move the operating point."""
+from __future__ import annotations
+
+import html
+
+import ipywidgets as w
+import numpy as np
+
+from . import compute
+from .common import CSS, SetupControls, Status, bokeh_widget, new_figure
+from .state import CONCENTRATION_RANGE, SIZE_RANGE, State
+from .units import eng, num
+
+__all__ = ["RegimesView"]
+
+TITLE = "ekexplore — transport regime maps"
+
+
+def _clip(v, lo, hi):
+    return float(min(max(v, lo), hi))
+
+
+class RegimesView:
+    """Build the regime maps on a :class:`State`; ``.widget`` is what to display."""
+
+    def __init__(self, state: State | None = None, n=36):
+        from bokeh.models import (ColorBar, ColumnDataSource, HoverTool, Label, LinearColorMapper,
+                                  LogColorMapper, Span)
+        from bokeh.palettes import Cividis256
+        from bokeh.layouts import row
+
+        self.state = state if state is not None else State()
+        self.n = n
+        self.controls = SetupControls(self.state, include_drive=False)
+        self.status = Status()
+        self.layer = w.Dropdown(options=[(v[0], k) for k, v in compute.LAYERS.items()],
+                                value="eo_fraction", description="colour layer",
+                                style={"description_width": "90px"},
+                                layout=w.Layout(width="620px"))
+        self.readout = w.HTML()
+        self.last_size = None
+        self.last_kz = None
+        self.error = None
+        self._sig = None
+
+        cols = ["left", "right", "bottom", "top", "x", "y", "value", "kappa_size"]
+        self.sources = {
+            "size": ColumnDataSource({c: [] for c in cols}),
+            "kz": ColumnDataSource({c: [] for c in cols}),
+            "contours": ColumnDataSource(dict(xs=[], ys=[], label=[])),
+            "contour_labels": ColumnDataSource(dict(x=[], y=[], text=[])),
+            "point_size": ColumnDataSource(dict(x=[], y=[])),
+            "point_kz": ColumnDataSource(dict(x=[], y=[])),
+        }
+        S = self.sources
+        self.mappers = {"linear": LinearColorMapper(palette=Cividis256, low=0, high=1,
+                                                    nan_color="#dddddd"),
+                        "log": LogColorMapper(palette=Cividis256, low=1e-4, high=10,
+                                              nan_color="#dddddd")}
+        fa = new_figure(440, 400, "ionic strength × channel size",
+                        "ionic strength [mM]", "size [m]", x_log=True, y_log=True,
+                        x_range=CONCENTRATION_RANGE, y_range=SIZE_RANGE)
+        fb = new_figure(440, 400, "κ·a × dimensionless wall potential",
+                        "κ·a (half-size / Debye length) [-]", "e|ζ|/kT [-]", x_log=True,
+                        x_range=(0.1, 1000.0), y_range=(0.0, 8.0))
+        self.figures = {"size": fa, "kz": fb}
+        self.quads = {}
+        for key, f in self.figures.items():
+            q = f.quad(left="left", right="right", bottom="bottom", top="top",
+                       source=S[key], line_color=None,
+                       fill_color={"field": "value", "transform": self.mappers["linear"]})
+            self.quads[key] = q
+            f.background_fill_color = "#dddddd"
+            f.grid.grid_line_alpha = 0.25
+        fa.multi_line("xs", "ys", source=S["contours"], color="white", line_width=1.5,
+                      line_dash="dashed")
+        fa.text("x", "y", text="text", source=S["contour_labels"], text_color="white",
+                text_font_size="11px", text_baseline="bottom")
+        self.spans = []
+        for lev in compute.KAPPA_LEVELS:
+            sp = Span(location=lev, dimension="height", line_color="white", line_dash="dashed",
+                      line_width=1.5)
+            fb.add_layout(sp)
+            fb.add_layout(Label(x=lev, y=7.4, text=f" κa={lev:g}", text_color="white",
+                                text_font_size="11px"))
+        for key, f in self.figures.items():
+            f.scatter("x", "y", source=S["point_" + key], marker="circle_cross", size=16,
+                      fill_color="#D55E00", line_color="white", line_width=2,
+                      legend_label="operating point")
+            f.legend.location = "bottom_left" if key == "size" else "bottom_right"
+            f.legend.label_text_font_size = "10px"
+            f.legend.background_fill_alpha = 0.7
+        fa.add_tools(HoverTool(renderers=[self.quads["size"]], tooltips=[
+            ("ionic strength", "@x{0.000a} mM"), ("size", "@y{0.00e0} m"),
+            ("κ·a", "@kappa_size{0.00a}"), ("value", "@value{0.000a}")]))
+        fb.add_tools(HoverTool(renderers=[self.quads["kz"]], tooltips=[
+            ("κ·a", "@x{0.00a}"), ("e|ζ|/kT", "@y{0.00}"), ("value", "@value{0.000a}")]))
+        self.colorbar = ColorBar(color_mapper=self.mappers["linear"], width=12,
+                                 major_label_text_font_size="10px", title_text_font_size="10px")
+        fb.add_layout(self.colorbar, "right")
+        from bokeh.events import Tap
+        fa.on_event(Tap, self._tap_size)
+        fb.on_event(Tap, self._tap_kz)
+
+        self.layer.observe(lambda ch: self._recolour(), "value")
+        self.state.observe(self._changed)
+        self.update()
+        self.plots = bokeh_widget(row(fa, fb))
+        header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
+                        "<span class='ekx-sub'>&nbsp; tap a map to move the operating point; "
+                        "hover to read values; grey: outside the solver range</span>")
+        right = w.VBox([self.status.widget, self.layer, self.plots, self.readout],
+                       layout=w.Layout(width="920px"))
+        self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
+
+    # ---- wiring -----------------------------------------------------------------
+    def _changed(self, change):
+        self.update()
+
+    def _tap_size(self, event):
+        self.tap_size(event.x, event.y)
+
+    def _tap_kz(self, event):
+        self.tap_kz(event.x, event.y)
+
+    def tap_size(self, ionic_strength, size):
+        """Move the operating point to (ionic strength [mol/m³], size [m])."""
+        if ionic_strength is None or size is None:
+            return
+        c = ionic_strength / self.state.ionic_strength_factor()
+        with self.state.hold_trait_notifications():
+            self.state.concentration = _clip(c, *CONCENTRATION_RANGE)
+            self.state.size = _clip(size, *SIZE_RANGE)
+
+    def tap_kz(self, kappa_size, phi):
+        """Move the operating point to (kappa*half-size, e|zeta|/kT)."""
+        if kappa_size is None or phi is None or self.last_kz is None:
+            return
+        m = self.last_kz
+        size = _clip(kappa_size * m["debye_length"] / m["ratio"], *SIZE_RANGE)
+        if self.state.wall_mode == "zeta":
+            with self.state.hold_trait_notifications():
+                self.state.size = size
+                self.state.zeta = m["sign"] * max(phi, 0.0) * m["thermal_voltage"]
+        else:
+            self.state.size = size
+            self.status.ok("constant-charge wall: the tap set the size only")
+
+    def update(self):
+        st = self.state
+        sig = tuple(sorted((k, repr(v)) for k, v in st.trait_values().items()
+                           if k not in ("length", "voltage", "pressure_drop")))
+        if sig == self._sig:
+            return
+        self.status.busy("computing the maps…")
+        try:
+            ex = compute.explore(st)
+            if self.last_size is None or getattr(self, "_sig_a", None) != self._key_a():
+                self.last_size = compute.map_size(st, self.n)
+                self._sig_a = self._key_a()
+            else:
+                factor = st.ionic_strength_factor()
+                self.last_size["point"] = (st.concentration * factor, st.size)
+            if self.last_kz is None or getattr(self, "_sig_b", None) != self._key_b():
+                self.last_kz = compute.map_kappa_zeta(st, self.n)
+                self._sig_b = self._key_b()
+            else:
+                VT = self.last_kz["thermal_voltage"]
+                self.last_kz["point"] = (compute.scalar(ex.result.kappa_size),
+                                         abs(compute.scalar(ex.result.wall_potential)) / VT)
+        except (ValueError, ArithmeticError) as exc:
+            self.error = str(exc)
+            self.status.error(self.error + " — the maps show the last valid input.")
+            return
+        except Exception as exc:  # never a traceback on the dashboard
+            self.error = f"{type(exc).__name__}: {exc}"
+            self.status.error("could not compute: " + self.error)
+            return
+        self._sig = sig
+        self.error = None
+        self.explored = ex
+        self._show_points()
+        self._recolour()
+        self.status.ok("up to date")
+
+    def _key_a(self):
+        """Inputs the size map depends on (not the concentration or the size)."""
+        st = self.state
+        params = {k: v for k, v in st.shape_params.items() if k != st.size_name}
+        return (st.salt, st.valence, st.temperature, st.wall_mode, st.zeta, st.charge_density,
+                st.stern_conductance, st.shape, repr(sorted(params.items())))
+
+    def _key_b(self):
+        """Inputs the kappa-zeta map depends on (not the size or zeta)."""
+        st = self.state
+        params = {k: v for k, v in st.shape_params.items() if k != st.size_name}
+        charge = (st.charge_density, st.size) if st.wall_mode == "charge" else ()
+        return (st.salt, st.valence, st.concentration, st.temperature, st.wall_mode, charge,
+                st.stern_conductance, st.shape, repr(sorted(params.items())),
+                np.sign(st.zeta))
+
+    def _show_points(self):
+        a, b = self.last_size, self.last_kz
+        S = self.sources
+        S["point_size"].data = dict(x=[a["point"][0]], y=[a["point"][1]])
+        S["point_kz"].data = dict(x=[b["point"][0]], y=[b["point"][1]])
+        xs, ys, lab = [], [], []
+        for lev, (x, y) in a["contours"].items():
+            xs.append(x)
+            ys.append(y)
+            lab.append(f"κa={lev:g}")
+        S["contours"].data = dict(xs=xs, ys=ys, label=lab)
+        # label each contour where it leaves the plot on the low-concentration side
+        tx, ty, tt = [], [], []
+        for lev, (x, y) in a["contours"].items():
+            inside = (y >= SIZE_RANGE[0]) & (y <= SIZE_RANGE[1]) & (x >= 3e-3)
+            if np.any(inside):
+                k = np.flatnonzero(inside)[0]
+                tx.append(x[k])
+                ty.append(y[k])
+                tt.append(f"κa={lev:g}")
+        S["contour_labels"].data = dict(x=tx, y=ty, text=tt)
+
+    def _recolour(self):
+        key = self.layer.value
+        title, scale, lo, hi = compute.LAYERS[key]
+        mapper = self.mappers[scale]
+        mapper.low, mapper.high = lo, hi
+        for k, q in self.quads.items():
+            q.glyph.fill_color = {"field": "value", "transform": mapper}
+        self.colorbar.color_mapper = mapper
+        for name, m in (("size", self.last_size), ("kz", self.last_kz)):
+            if m is None:
+                continue
+            c = m["cells"]
+            self.sources[name].data = dict(left=c["left"], right=c["right"],
+                                           bottom=c["bottom"], top=c["top"], x=c["x"], y=c["y"],
+                                           value=c[key], kappa_size=c["kappa_size"])
+        self._show_readout(key, title)
+
+    def _show_readout(self, key, title):
+        ex = self.explored
+        st = self.state
+        r = ex.result
+        a, b = self.last_size, self.last_kz
+        val = self.value_at(a, a["point"], key)
+        self.readout.value = (
+            "<div class='ekx-small'>"
+            f"<b>Operating point</b>: ionic strength {num(a['point'][0])} mM, "
+            f"{html.escape(st.size_name)} {eng(st.size, 'm')}, κ·a = {num(b['point'][0])}, "
+            f"e|ζ|/kT = {num(b['point'][1])}; {html.escape(title.split(' [')[0])} here: "
+            f"{val}. Explorer model {html.escape(ex.model)}: L12 = "
+            f"{compute.scalar(r.electroosmotic):.4g} m²/(V·s), L22 = "
+            f"{compute.scalar(r.conductive):.4g} S/m.<br>"
+            f"<span style='color:#1b2a38'>{html.escape(ex.verdict)}</span><br>"
+            f"Maps: one batched solve per model (pb reference, thin, dh) on "
+            f"{a['n_valid']} of {a['n_cells']} cells (left) and {b['n_valid']} of "
+            f"{b['n_cells']} (right); "
+            "errors are of the electroosmotic coefficient L12.</div>")
+
+    @staticmethod
+    def value_at(m, point, key):
+        """The layer ``key`` of map ``m`` in the cell holding ``point``, as text."""
+        c = m["cells"]
+        x, y = point
+        hit = (c["left"] <= x) & (x < c["right"]) & (c["bottom"] <= y) & (y < c["top"])
+        if not np.any(hit):
+            return "outside the map"
+        return num(c[key][np.flatnonzero(hit)[0]])
