@@ -65,8 +65,8 @@ class State(traitlets.HasTraits):
     shape_params = traitlets.Dict()                 # name -> value [m, deg or -]
     model = traitlets.Unicode("auto")               # auto | thin | dh | pb
     length = traitlets.Float(1e-2)                  # channel length [m]
-    voltage = traitlets.Float(10.0)                 # applied voltage [V]
-    pressure_drop = traitlets.Float(1e5)            # applied pressure drop [Pa]
+    voltage = traitlets.Float(50.0)                 # applied voltage [V]
+    pressure_drop = traitlets.Float(1e3)            # applied pressure drop [Pa]
 
     MODELS = ("auto", "thin", "dh", "pb")
 
