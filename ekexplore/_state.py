@@ -11,8 +11,9 @@ unless said otherwise, SI units, per unit cross-section area:
 ``L21``               streaming coefficient <rho_e u_p>/G [A/(m Pa) ...]
 ``L22_migration``     <sum z²F²D c/RT> [S/m]
 ``L22_convection``    <rho_e u_eo>/E [S/m]
-``ion_current``       per-ion share of L22 (migration + convection) [S/m],
-                      shape (n_ions, \\*shape)
+``ion_current``       per-ion share of L22 [S/m]: migration plus convection of
+                      the ion's excess over the bulk (the bulk part cancels
+                      over the ions), shape (n_ions, \\*shape)
 ``wall_potential``    potential at the wall (zeta) [V]
 ``error``             estimated relative error of the coefficients [-]
 ``model``             the model used, str or ndarray of str

@@ -231,7 +231,8 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-13, max_iter=200
                 tf = np.where(bad, 0.5 * tf, tf)
                 trial[far] = ph[far] + tf[:, None] * step[far]
             t[far] = tf
-        phi[active] = trial
+        lim = 2.0 * PB_PHI_MAX / np.min(np.abs(z))
+        phi[active] = np.clip(trial, -lim, lim)
         done = (big * t * scale < tol * (1.0 + np.max(np.abs(trial), axis=1))) & (t == 1.0) \
             & (scale == 1.0)
         active = active[~done]

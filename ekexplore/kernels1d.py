@@ -18,7 +18,7 @@ import numpy as np
 from scipy import special
 
 from ._state import F, R as R_GAS
-from .doublelayer import (ConvergenceError, make_grid, solve_pb, flat_layer_integrals,
+from .doublelayer import (make_grid, solve_pb, flat_layer_integrals, donnan_potential,
                           PB_PHI_MAX)
 from .profiles import Profiles
 
@@ -173,8 +173,9 @@ def _thin(b, m):
     per_area = (m + 1) / b["R"] / b["kappa"]                     # (P/A) / kappa
     bulk = b["lam"] * b["c"]
     mig_ion = bulk + per_area * bulk * I_mig
-    # plug flow carries every ion at -eps zeta/eta; the layer excess adds I_conv
-    conv_ion_s = -phi_w[None] + per_area * I_conv
+    # convection of each ion's excess over the bulk (the bulk part sums to zero
+    # over the ions and only depends on the frame, so it is left out per ion)
+    conv_ion_s = per_area * I_conv
     sigma = b["eps"] * b["VT"] * b["kappa"] * np.sign(phi_w) * np.sqrt(
         np.maximum(2.0 * np.sum(b["w"] * np.expm1(-b["z"][:, None] * phi_w[None]), axis=0), 0))
     if b["sigma_s"] is not None:
@@ -193,8 +194,8 @@ def _dh(b, m):
     z = b["z"][:, None]
     mean_c = 1.0 - z * phi_w * G1 + 0.5 * z**2 * phi_w**2 * H   # <c_i>/c_i (2nd order)
     mig_ion = b["lam"] * b["c"] * mean_c
-    # <(1 - z phi)(phi - phi_w)>
-    conv_ion_s = phi_w * (G1 - 1.0) - z * phi_w**2 * (H - G1)
+    # <(c/c_b - 1)(phi - phi_w)> = <-z phi (phi - phi_w)>: convection of the excess
+    conv_ion_s = -z * phi_w**2 * (H - G1)
     sigma = b["eps"] * b["VT"] * phi_w * K**2 * G1 / (b["R"] * (m + 1))
     return _assemble(b, m, L12s, L21s, mig_ion, conv_ion_s, phi_w, sigma,
                      np.zeros(b["B"]), "dh")
@@ -219,18 +220,21 @@ def _pb_scaled(b, m, grid, phi):
     L12s = np.sum(V * phi, axis=1) - phi_w                          # <phi> - phi_w
     L21s = np.sum(V * K2 * fvals * grid.poiseuille, axis=1)         # K^2 <f u_hat>
     mean_c = np.sum(V[None] * e, axis=2)                            # <c_i>/c_i
-    conv_s = np.sum(V[None] * e * (phi - phi_w[:, None])[None], axis=2)  # <c/c_b (phi - phi_w)>
+    # <(c/c_b - 1)(phi - phi_w)>: convection of each ion's excess over the bulk
+    conv_s = np.sum(V[None] * np.expm1(-z[:, None, None] * phi[None]) * (phi - phi_w[:, None])[None],
+                    axis=2)
     mean_f = np.sum(V * fvals, axis=1)
     return np.stack([L12s, L21s]), mean_c, conv_s, mean_f
 
 
 def _pb_wall_estimate(b, m):
+    """Scaled wall potential, or for a charge wall an estimate of it: the larger
+    of the isolated-wall (Grahame) and the uniform (Donnan) potentials."""
     if b["phi_w"] is not None:
         return b["phi_w"]
-    # constant charge: the larger of the isolated-wall and the Donnan estimate
     iso = wall_potential_isolated(b["z"], b["w"], b["K"], b["sigma_s"])
-    dh = dh_wall_potential(m, b["K"], b["sigma_s"])
-    return np.where(np.abs(dh) > np.abs(iso), np.clip(dh, -PB_PHI_MAX, PB_PHI_MAX), iso)
+    don = donnan_potential(b["z"], b["w"], -(m + 1) * b["sigma_s"] / b["K"]**2)
+    return np.where(np.abs(don) > np.abs(iso), don, iso)
 
 
 def _pb(b, m, accuracy=1e-6):
@@ -238,6 +242,14 @@ def _pb(b, m, accuracy=1e-6):
     grid depends on its own parameters only (a batch gives the same numbers
     as single calls)."""
     phi_est = _pb_wall_estimate(b, m)
+    zmax = np.max(np.abs(b["z"]))
+    over = np.abs(zmax * phi_est) > PB_PHI_MAX
+    if np.any(over):
+        k = np.flatnonzero(over)[0]
+        raise ValueError(
+            f"charge_density = {b['value'][k]:g} C/m^2 needs a wall potential of about "
+            f"{phi_est[k] * b['VT'][k]:.3g} V, beyond the solver range |z e zeta/kT| <= "
+            f"{PB_PHI_MAX:g}; lower the charge, widen the channel or raise the concentration")
     x0 = _inner_scale(b, m, phi_est)
     need = np.maximum(PB_MIN_CELLS, np.ceil(np.log1p(1.0 / x0) / PB_DXI))
     level = PB_MIN_CELLS * 2 ** np.ceil(np.log2(need / PB_MIN_CELLS)).astype(int)
@@ -347,7 +359,7 @@ def transport_1d(m, half_size, cond, model, options):
     if model == "auto":
         phi_est = b["phi_w"] if b["phi_w"] is not None else _pb_wall_estimate(b, m)
         chosen, est = choose_models(b["K"], phi_est, b["z"], m, options.get("tol", 0.01),
-                                    condition=cond.wall_condition)
+                                    condition=cond.wall_condition, weights=b["w"])
     else:
         chosen = np.full(b["B"], model)
         est = None

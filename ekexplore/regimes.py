@@ -13,9 +13,11 @@ the error of its surface conduction.
 
 ``dh`` linearises the Boltzmann factor. Its error grows as the square of
 :math:`\Phi = \max_i|z_i|\,e|\zeta|/kT` and is largest for the conduction:
-the diffuse-layer conductance goes as cosh(Phi/2) - 1 against Phi²/8 in DH,
-so the estimate is :math:`(\cosh(\Phi/2) - 1)/(\Phi^2/8) - 1`, times a
-safety factor for overlapped layers and constant-charge walls.
+in thin layers the diffuse-layer conductance goes as cosh(Phi/2) - 1
+against Phi²/8 in DH, an error :math:`(\cosh(\Phi/2) - 1)/(\Phi^2/8) - 1`;
+in overlapped layers the mean charge goes as sinh(Phi) against Phi, an error
+:math:`\sinh\Phi/\Phi - 1`. The estimate blends the two with G, times a
+safety factor, doubled for constant-charge walls.
 
 ``pb`` is the reference; its own error is the Richardson estimate of the
 two-grid solve.
@@ -33,9 +35,9 @@ __all__ = ["estimated_model_errors", "choose_models", "ERROR_METHOD", "MODEL_RAN
 
 #: How ``auto`` estimates errors, in words (stored on every result).
 ERROR_METHOD = ("a-priori estimates: thin -> G/(1-G) with G the Debye-Hueckel mean-potential "
-                "factor at kappa*half-size; dh -> (cosh(Phi/2)-1)/(Phi^2/8)-1 with "
-                "Phi = max|z| e|zeta|/kT, times safety factors; pb -> Richardson difference "
-                "of a two-grid solve")
+                "factor at kappa*half-size; dh -> G (sinh(Phi)/Phi - 1) + (1-G) "
+                "((cosh(Phi/2)-1)/(Phi^2/8) - 1) with Phi = max|z| e|zeta|/kT; both times "
+                "safety factors; pb -> Richardson difference of a two-grid solve")
 
 #: Validity range of each model, as data (kappa*half-size K, scaled wall potential Phi).
 MODEL_RANGES = {
@@ -62,7 +64,7 @@ def _mean_factor(m, K):
 
 
 def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry=0,
-                           condition="potential"):
+                           condition="potential", weights=None):
     """Estimated relative error of the thin and dh models on the coupling matrix.
 
     Parameters
@@ -78,6 +80,11 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     condition : {"potential", "charge"}
         Wall condition; constant charge doubles the dh estimate, since the
         linear Grahame relation adds its own error.
+    weights : array_like, optional
+        c_i / sum_j z_j^2 c_j per ion, shape (n_ions, ...). For asymmetric
+        mixtures the Boltzmann factor has a quadratic term, so dh errs at first
+        order in Phi: the estimate adds |sum z_i^3 w_i| Phi / 2. Default: a
+        symmetric salt.
 
     Returns
     -------
@@ -110,19 +117,30 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     x = Phi / 2.0
     small = x < 1e-3
     xs = np.where(small, 1.0, x)
-    ratio = np.where(small, x**2 / 12.0, (np.cosh(xs) - 1.0) / (xs**2 / 2.0) - 1.0)
+    Ps = np.where(small, 1.0, Phi)
+    # thin layers: conduction error (cosh(Phi/2)-1)/(Phi^2/8) - 1 ~ Phi^2/48;
+    # overlapped layers: the mean charge goes as sinh(Phi) against Phi, ~ Phi^2/6
+    thin_layer = np.where(small, x**2 / 12.0, (np.cosh(xs) - 1.0) / (xs**2 / 2.0) - 1.0)
+    overlap = np.where(small, Phi**2 / 6.0, np.sinh(np.minimum(Ps, 700.0)) / Ps - 1.0)
+    ratio = G * overlap + (1.0 - G) * thin_layer
+    if weights is not None:
+        zb = np.asarray(valences, dtype=float).reshape((-1,) + (1,) * (np.ndim(weights) - 1))
+        skew = np.abs(np.sum(zb**3 * np.asarray(weights), axis=0))
+        ratio = ratio + skew * np.abs(np.asarray(phi_wall)) / 2.0
     dh = _SAFETY_DH * ratio * (2.0 if condition == "charge" else 1.0)
     thin, dh = np.broadcast_arrays(np.minimum(thin, 1e6), np.minimum(dh, 1e6))
     return {"thin": thin, "dh": dh}
 
 
-def choose_models(kappa_half_size, phi_wall, valences, geometry, tol, condition="potential"):
+def choose_models(kappa_half_size, phi_wall, valences, geometry, tol, condition="potential",
+                  weights=None):
     """Pick, per point, the cheapest model whose estimated error is below ``tol``.
 
     Returns (models, estimates): an array of "thin"/"dh"/"pb" and the dict
     from :func:`estimated_model_errors`.
     """
-    est = estimated_model_errors(kappa_half_size, phi_wall, valences, geometry, condition)
+    est = estimated_model_errors(kappa_half_size, phi_wall, valences, geometry, condition,
+                                 weights)
     models = np.where(est["thin"] <= tol, "thin", np.where(est["dh"] <= tol, "dh", "pb"))
     return models, est
 

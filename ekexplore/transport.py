@@ -122,8 +122,9 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=1e-6):
     out = channel._kernel(cond, model, {"tol": tol, "accuracy": accuracy})
     if cond.wall_condition == "charge":
         phi = np.abs(out["wall_potential"]) / cond.thermal_voltage * zmax
-        if np.any(phi > PB_PHI_MAX):
-            bad = float(np.max(np.abs(out["wall_potential"])))
+        over = (phi > PB_PHI_MAX) & (np.asarray(out["model"]) == "pb")
+        if np.any(over):
+            bad = float(np.max(np.abs(out["wall_potential"])[over]))
             raise ValueError(f"charge_density gives a wall potential of {bad:g} V, beyond the "
                              f"solver range |z e zeta/kT| <= {PB_PHI_MAX:g}; lower the charge "
                              "or raise the concentration")
@@ -252,9 +253,12 @@ class Result:
     def counterion_share(self):
         """Share of the conduction current carried by counter-ions [-].
 
-        Counter-ions are the ions of sign opposite to the wall potential;
+        Counter-ions are the ions of sign opposite to the wall potential. Each
+        ion's current is its migration plus the convection of its excess over
+        the bulk (the convection of the neutral bulk carries no net current);
         the Stern conduction counts as counter-ion current. At zero wall
-        potential, cations are counted.
+        potential, cations are counted, which gives their bulk transference
+        number.
         """
         z = self._cond.z_b()
         sgn = np.sign(self.wall_potential)
