@@ -89,9 +89,10 @@ def make_grid(m, x0, n_cells):
 
 def _f(z, w, phi):
     """f and f' (B, n) for valences z (k,), weights w (k, B), phi (B, n)."""
-    e = np.exp(-z[:, None, None] * phi[None])           # (k, B, n)
+    # sum z w = 0 (neutral bulk): expm1 keeps f exact at tiny potentials
+    em1 = np.expm1(-z[:, None, None] * phi[None])       # (k, B, n)
     zw = (z[:, None] * w)[:, :, None]
-    return np.sum(zw * e, axis=0), -np.sum(z[:, None, None] * zw * e, axis=0)
+    return np.sum(zw * em1, axis=0), -np.sum(z[:, None, None] * zw * (em1 + 1.0), axis=0)
 
 
 def _g(z, w, phi):
@@ -115,11 +116,11 @@ def donnan_potential(z, w, target):
     hi = -lo
     for _ in range(100):
         mid = 0.5 * (lo + hi)
-        fm = np.sum((z[:, None] * w) * np.exp(-z[:, None] * mid[None]), axis=0)
+        fm = np.sum((z[:, None] * w) * np.expm1(-z[:, None] * mid[None]), axis=0)
         above = fm > target
         lo = np.where(above, mid, lo)
         hi = np.where(above, hi, mid)
-    return 0.5 * (lo + hi)
+    return np.where(target == 0, 0.0, 0.5 * (lo + hi))
 
 
 def _initial_guess(grid, K, z, w, condition, value):
@@ -173,7 +174,7 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-13, max_iter=200
     start. Each step solves one symmetric positive-definite tridiagonal
     system for the whole batch at once with LAPACK ``dptsv`` (the blocks are
     stacked with zero coupling). Stops when the Newton update is below
-    ``tol`` in every point; raises :class:`ConvergenceError` otherwise.
+    ``tol`` relative to the largest potential in every point; raises :class:`ConvergenceError` otherwise.
     """
     B, n = grid.x.shape
     c = grid.area / grid.dx                                  # (B, n-1)
@@ -233,8 +234,10 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-13, max_iter=200
             t[far] = tf
         lim = 2.0 * PB_PHI_MAX / np.min(np.abs(z))
         phi[active] = np.clip(trial, -lim, lim)
-        done = (big * t * scale < tol * (1.0 + np.max(np.abs(trial), axis=1))) & (t == 1.0) \
-            & (scale == 1.0)
+        # at least one full step: near zero potential the problem is linear and
+        # one step is exact, whatever the (absolute) accuracy of the start
+        done = (big * t * scale <= tol * np.max(np.abs(trial), axis=1)) & (t == 1.0) \
+            & (scale == 1.0) & (it > 0)
         active = active[~done]
         if active.size == 0:
             return phi

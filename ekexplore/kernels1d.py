@@ -214,15 +214,15 @@ def _pb_scaled(b, m, grid, phi):
     V = grid.volume
     phi_w = phi[:, 0]
     z = b["z"]
-    e = np.exp(-z[:, None, None] * phi[None])                      # (k, B, n)
-    fvals = np.sum((z[:, None] * b["w"])[:, :, None] * e, axis=0)   # (B, n)
+    em1 = np.expm1(-z[:, None, None] * phi[None])                  # (k, B, n)
+    e = em1 + 1.0
+    fvals = np.sum((z[:, None] * b["w"])[:, :, None] * em1, axis=0)  # (B, n), exact near 0
     K2 = b["K"][:, None]**2
     L12s = np.sum(V * phi, axis=1) - phi_w                          # <phi> - phi_w
     L21s = np.sum(V * K2 * fvals * grid.poiseuille, axis=1)         # K^2 <f u_hat>
     mean_c = np.sum(V[None] * e, axis=2)                            # <c_i>/c_i
     # <(c/c_b - 1)(phi - phi_w)>: convection of each ion's excess over the bulk
-    conv_s = np.sum(V[None] * np.expm1(-z[:, None, None] * phi[None]) * (phi - phi_w[:, None])[None],
-                    axis=2)
+    conv_s = np.sum(V[None] * em1 * (phi - phi_w[:, None])[None], axis=2)
     mean_f = np.sum(V * fvals, axis=1)
     return np.stack([L12s, L21s]), mean_c, conv_s, mean_f
 

@@ -63,9 +63,9 @@ class Profiles:
         R = b["R"][:, None]
         VT = b["VT"][:, None]
         z = b["z"]
-        e = np.exp(-z[:, None, None] * phi[None])
-        conc = b["c"][:, :, None] * e
-        fvals = np.sum((z[:, None] * b["w"])[:, :, None] * e, axis=0)
+        em1 = np.expm1(-z[:, None, None] * phi[None])
+        conc = b["c"][:, :, None] * (em1 + 1.0)
+        fvals = np.sum((z[:, None] * b["w"])[:, :, None] * em1, axis=0)
         rho = (b["eps"] * b["kappa"]**2)[:, None] * VT * fvals
         eta = b["eta"][:, None]
         up = pressure_gradient * R**2 / eta * grid.poiseuille

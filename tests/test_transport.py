@@ -1,0 +1,231 @@
+"""solve() and Result: API, derived quantities, validation and properties."""
+import numpy as np
+import pytest
+from hypothesis import given, settings, HealthCheck, strategies as st
+from numpy.testing import assert_allclose
+from scipy import constants
+
+import ekexplore as ek
+
+VT25 = constants.k * 298.15 / constants.e
+
+
+def test_matrix_shape_broadcasts_and_accessors():
+    c = np.array([0.1, 1.0, 10.0])[:, None]
+    h = np.array([20e-9, 200e-9])[None, :]
+    r = ek.solve(ek.Slit(gap=h), ek.Electrolyte.salt("NaCl", c), ek.Wall(zeta=-0.05))
+    assert r.matrix.shape == (3, 2, 2, 2)
+    assert r.model.shape == (3, 2)
+    assert_allclose(r.matrix[..., 0, 1], r.electroosmotic)
+    assert_allclose(r.matrix[..., 1, 1], r.conductive)
+    for k, v in r.as_dict().items():
+        assert np.shape(v) == (3, 2), k
+
+
+def test_flux_sign_convention():
+    # Negative zeta: flow along +x for E_x > 0 and current along +x for -dp/dx > 0.
+    r = ek.solve(ek.Tube(diameter=1e-6), ek.Electrolyte.salt("KCl", 1.0), ek.Wall(zeta=-0.05))
+    u, i = r.matrix @ np.array([0.0, 1e4])
+    assert u > 0 and i > 0
+    u, i = r.matrix @ np.array([1e6, 0.0])
+    assert u > 0 and i > 0
+
+
+def test_kedem_caplan_efficiency_is_the_maximum_of_the_load_curve():
+    # Kedem & Caplan (1965), Trans. Faraday Soc. 61, 1897, doi:10.1039/TF9656101897:
+    # eta_max = q^2/(1 + sqrt(1 - q^2))^2 with q^2 = L12 L21/(L11 L22). Check it against a
+    # direct maximisation of output/input power of the linear converter over the load.
+    r = ek.solve(ek.Slit(gap=30e-9), ek.Electrolyte.salt("KCl", 0.1), ek.Wall(zeta=-0.1),
+                 model="pb")
+    L11, L12, L21, L22 = r.matrix.ravel()
+    G = 1.0
+    # a resistive load sets E = -x L21 G / L22 for 0 < x < 1 (x = 1: open circuit)
+    x = np.linspace(1e-4, 1 - 1e-4, 200001)
+    E = -x * L21 * G / L22
+    u = L11 * G + L12 * E
+    i = L21 * G + L22 * E
+    eff = -(i * E) / (u * G)
+    assert_allclose(eff.max(), float(r.max_efficiency), rtol=1e-6)
+    q2 = L12 * L21 / (L11 * L22)
+    assert_allclose(float(r.coupling_degree), q2, rtol=1e-14)
+
+
+def test_derived_quantities_match_their_definitions():
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    ch = ek.Tube(diameter=100e-9)
+    r = ek.solve(ch, e, ek.Wall(zeta=-0.08, stern_conductance=2e-9), model="pb")
+    L11, L12, L21, L22 = r.matrix.ravel()
+    assert_allclose(r.streaming_potential_coefficient, -L21 / L22)
+    assert_allclose(r.electroviscous_ratio, L11 / (L11 - L12 * L21 / L22))
+    assert r.electroviscous_ratio > 1
+    assert_allclose(r.dukhin, (L22 - float(e.conductivity())) / float(e.conductivity()))
+    dp, Q = r.pump_limits(voltage=100.0, length=1e-3)
+    assert_allclose(dp, L12 * 100.0 / L11)
+    assert_allclose(Q, float(ch.area) * L12 * 100.0 / 1e-3)
+    g = r.conductances(1e-3)
+    assert_allclose(g["conductance"], L22 * float(ch.area) / 1e-3)
+    assert_allclose(g["current_per_pressure"], L21 * float(ch.area) / 1e-3)
+    # Smoluchowski streaming potential eps zeta/(eta K) in a wide channel
+    # (Delgado et al. 2005, doi:10.1351/pac200577101753)
+    rw = ek.solve(ek.Tube(diameter=1e-3), e, ek.Wall(zeta=-0.02), model="thin")
+    smol = float(e.permittivity) * -0.02 / (float(e.viscosity) * float(e.conductivity()))
+    assert_allclose(float(rw.streaming_potential_coefficient), smol, rtol=1e-3)
+
+
+def test_stern_conductance_adds_perimeter_over_area():
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    ch = ek.Slit(gap=100e-9)
+    r0 = ek.solve(ch, e, ek.Wall(zeta=-0.05), model="pb")
+    r1 = ek.solve(ch, e, ek.Wall(zeta=-0.05, stern_conductance=1e-9), model="pb")
+    assert_allclose(r1.conductive - r0.conductive, 2 / 100e-9 * 1e-9, rtol=1e-12)
+
+
+def test_profiles_have_units_and_consistent_means():
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    r = ek.solve(ek.Tube(diameter=200e-9), e, ek.Wall(zeta=-0.05), model="pb")
+    p = r.profiles(pressure_gradient=1e9, field=1e4)
+    assert p.units["potential"] == "V"
+    assert p.potential.shape == p.coordinate.shape
+    assert_allclose(p.potential[0], -0.05, rtol=1e-6)
+    assert_allclose(p.velocity_pressure[0], 0.0, atol=1e-20)
+    assert abs(p.potential[-1]) < abs(p.potential[0])
+    # the counter-ion is enriched at the wall: c_K(wall)/c_bulk = exp(e|zeta|/kT)
+    assert_allclose(p.concentrations[0][0] / 1.0, np.exp(0.05 / VT25), rtol=1e-6)
+    df = p.to_frame()
+    assert "potential [V]" in df.columns and len(df) == p.potential.size
+    # the area mean of u_p on the grid reproduces L11 G to grid accuracy
+    w = 2 * p.coordinate / (0.1e-6)**2
+    mean_up = -np.trapezoid(p.velocity_pressure * w, p.coordinate)
+    assert_allclose(mean_up, float(r.hydraulic) * 1e9, rtol=1e-3)
+
+
+def test_profiles_for_every_model_and_batches():
+    e = ek.Electrolyte.salt("KCl", np.array([1.0, 10.0]))
+    for model in ("thin", "dh", "pb", "auto"):
+        r = ek.solve(ek.Slit(gap=100e-9), e, ek.Wall(zeta=-0.05), model=model)
+        p = r.profiles()
+        assert p.potential.shape[0] == 2
+        assert np.all(np.isfinite(p.potential))
+
+
+@pytest.mark.parametrize("kwargs,match", [
+    (dict(model="exact"), "model"),
+    (dict(tol=2.0), "tol"),
+])
+def test_solve_rejects_bad_options(kwargs, match):
+    with pytest.raises(ValueError, match=match):
+        ek.solve(ek.Slit(gap=1e-6), ek.Electrolyte.salt("KCl", 1.0), ek.Wall(zeta=-0.05),
+                 **kwargs)
+
+
+def test_solve_rejects_out_of_range_inputs_with_named_parameters():
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    with pytest.raises(ValueError, match="kappa\\*half_size"):
+        ek.solve(ek.Slit(gap=1e-2), ek.Electrolyte.salt("KCl", 1000.0), ek.Wall(zeta=-0.05))
+    with pytest.raises(ValueError, match="zeta"):
+        ek.solve(ek.Slit(gap=1e-6), ek.Electrolyte.salt("MgSO4", 1.0), ek.Wall(zeta=-0.55))
+    with pytest.raises(ValueError, match="charge_density"):
+        ek.Wall(charge_density=-1.5)
+    with pytest.raises(ValueError, match="gap"):
+        ek.Slit(gap=-1e-6)
+    with pytest.raises(ValueError, match="channel"):
+        ek.solve("slit", e, ek.Wall(zeta=-0.05))
+    with pytest.raises(ValueError, match="zeta = 0.7"):
+        ek.Wall(zeta=0.7)
+
+
+def test_inputs_are_not_modified():
+    gap = np.array([50e-9, 500e-9])
+    c = np.array([1.0, 5.0])
+    zeta = np.array([-0.05, -0.02])
+    keep = gap.copy(), c.copy(), zeta.copy()
+    ek.solve(ek.Slit(gap=gap), ek.Electrolyte.salt("KCl", c), ek.Wall(zeta=zeta))
+    for a, b in zip((gap, c, zeta), keep):
+        assert np.array_equal(a, b)
+
+
+# ---------------------------------------------------------------------------------
+# property tests over the full input ranges
+# ---------------------------------------------------------------------------------
+SALT = st.sampled_from(["KCl", "NaCl", "CaCl2", "Na2SO4", "MgSO4", "HCl"])
+
+
+@st.composite
+def cases(draw):
+    salt = draw(SALT)
+    shape = draw(st.sampled_from([ek.Slit, ek.Tube]))
+    logK = draw(st.floats(-3, 5))
+    zmax = 2 if salt in ("CaCl2", "Na2SO4", "MgSO4") else 1
+    phi = draw(st.floats(-20, 20)) / zmax
+    conc = draw(st.floats(-2, 2))  # log10 mol/m^3
+    T = draw(st.floats(278.15, 363.15))
+    charge = draw(st.booleans())
+    e = ek.Electrolyte.salt(salt, 10**conc, temperature=T)
+    lam = float(e.debye_length)
+    size = 2 * 10**logK * lam
+    if not 1e-9 <= size <= 1e-2:
+        size = float(np.clip(size, 1e-9, 1e-2))
+    ch = shape(size)
+    VT = constants.k * T / constants.e
+    if charge:
+        sigma = float(ek.grahame_charge(e, phi * VT * 0.5))
+        wall = ek.Wall(charge_density=float(np.clip(sigma, -1, 1)))
+    else:
+        wall = ek.Wall(zeta=phi * VT)
+    return ch, e, wall
+
+
+def _solve_or_range_error(ch, e, wall, model):
+    try:
+        return ek.solve(ch, e, wall, model=model)
+    except ValueError as exc:  # only the documented range checks may refuse
+        assert any(k in str(exc) for k in ("kappa*half_size", "charge_density", "zeta ="))
+        return None
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(cases(), st.sampled_from(["pb", "auto", "dh", "thin"]))
+def test_properties_reciprocity_definiteness_finiteness(case, model):
+    # Onsager (1931), doi:10.1103/PhysRev.37.405: L12 = L21; the entropy production
+    # requires a positive-definite symmetric part (de Groot & Mazur, Non-Equilibrium
+    # Thermodynamics). The two off-diagonals are computed independently.
+    r = _solve_or_range_error(*case, model)
+    if r is None:
+        return
+    M = r.matrix
+    assert np.all(np.isfinite(M))
+    assert float(r.reciprocity_residual) <= 1e-8
+    assert M[0, 0] > 0 and M[1, 1] > 0
+    assert M[0, 0] * M[1, 1] - M[0, 1] * M[1, 0] > 0
+    for k, v in r.as_dict().items():
+        if k != "model":
+            assert np.all(np.isfinite(v)), k
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(cases(), min_size=2, max_size=4), st.sampled_from(["pb", "auto"]))
+def test_properties_scalar_and_batched_agree(batch, model):
+    # Same inputs one at a time and as one array call give the same numbers.
+    salts = {type(c[0]).__name__ for c in batch}
+    ch0, e0, w0 = batch[0]
+    # build a batch over size and wall value with the first case's electrolyte
+    sizes = np.array([float(c[0].half_size) * 2 for c in batch])
+    Cls = type(ch0)
+    if w0.condition == "potential":
+        vals = np.array([float(c[2].value) if c[2].condition == "potential" else -0.01
+                         for c in batch])
+        wall = ek.Wall(zeta=vals)
+        single = [ek.Wall(zeta=v) for v in vals]
+    else:
+        vals = np.array([float(c[2].value) if c[2].condition == "charge" else -0.001
+                         for c in batch])
+        wall = ek.Wall(charge_density=vals)
+        single = [ek.Wall(charge_density=v) for v in vals]
+    rb = _solve_or_range_error(Cls(sizes), e0, wall, model)
+    if rb is None:
+        return
+    for i in range(len(batch)):
+        ri = ek.solve(Cls(sizes[i]), e0, single[i], model=model)
+        assert_allclose(rb.matrix[i], ri.matrix, rtol=1e-12)
+        assert rb.model[i] == ri.model
+    assert salts
