@@ -220,7 +220,7 @@ class SetupControls:
         if include_drive:
             rows += [section_title("Channel length and driving"), self.length, self.voltage,
                      self.pressure]
-        self.stern.description_tooltip = "surface conductance of the Stern layer [nS]"
+        self.stern.tooltip = "surface conductance of the Stern layer [nS]"
         self.widget = w.VBox(rows, layout=w.Layout(width="345px", min_width="345px"))
 
     # -- shape parameters -------------------------------------------------------
@@ -230,7 +230,7 @@ class SetupControls:
         size_name = size_parameter(self.state.shape) if cls else None
         self.size.description = (f"{cls.parameter_info[size_name].label} [µm]"
                                  if cls else "size [µm]")
-        self.size.description_tooltip = self.size.description
+        self.size.tooltip = self.size.description
         for p in (cls.parameters if cls else ()):
             if p == size_name:
                 continue
@@ -253,7 +253,7 @@ class SetupControls:
                                     readout_format=".3g", description=f"{info.label} [-]",
                                     **_slider())
                 scale = 1.0
-            wid.description_tooltip = wid.description
+            wid.tooltip = wid.description
             wid.observe(lambda ch, p=p, scale=scale: self._param_from_widget(p, ch, scale),
                         "value")
             self.extra[p] = (wid, scale)

@@ -120,15 +120,15 @@ def matrix_csv(ex, state):
     m = ex.matrix
     rows = [
         "quantity,value,unit",
-        f"L11 hydraulic,{m[0, 0]!r},m^2/(Pa s)",
-        f"L12 electroosmotic,{m[0, 1]!r},m^2/(V s)",
-        f"L21 streaming,{m[1, 0]!r},A/(m Pa)",
-        f"L22 conductive,{m[1, 1]!r},S/m",
-        f"channel length,{state.length!r},m",
+        f"L11 hydraulic,{float(m[0, 0])!r},m^2/(Pa s)",
+        f"L12 electroosmotic,{float(m[0, 1])!r},m^2/(V s)",
+        f"L21 streaming,{float(m[1, 0])!r},A/(m Pa)",
+        f"L22 conductive,{float(m[1, 1])!r},S/m",
+        f"channel length,{float(state.length)!r},m",
     ]
     units = {"flow_per_pressure": "m^3/(s Pa)", "flow_per_volt": "m^3/(s V)",
              "current_per_pressure": "A/Pa", "conductance": "S"}
-    rows += [f"{k},{v!r},{units.get(k, '')}" for k, v in ex.conductances.items()]
+    rows += [f"{k},{float(v)!r},{units.get(k, '')}" for k, v in ex.conductances.items()]
     rows.append(f"model,{ex.model},")
     rows.append(f"reciprocity residual,{scalar(ex.result.reciprocity_residual)!r},-")
     return "\n".join(rows) + "\n"
