@@ -236,7 +236,7 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-13, max_iter=200
         phi[active] = np.clip(trial, -lim, lim)
         # at least one full step: near zero potential the problem is linear and
         # one step is exact, whatever the (absolute) accuracy of the start
-        done = (big * t * scale <= tol * np.max(np.abs(trial), axis=1)) & (t == 1.0) \
+        done = (big * t * scale <= tol * np.max(np.abs(trial), axis=1) + 1e-280) & (t == 1.0) \
             & (scale == 1.0) & (it > 0)
         active = active[~done]
         if active.size == 0:

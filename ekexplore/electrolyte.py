@@ -326,7 +326,7 @@ class Electrolyte:
             ``"ideal"``: Nernst–Einstein sum
             :math:`K = \sum z_i^2 F^2 D_i c_i/(RT)`, exact at infinite
             dilution; against the KCl conductivity standards at 25 °C it is
-            high by 1.6 % at 1 mM, 6 % at 10 mM and 16 % at 100 mM.
+            high by 1.7 % at 1 mM, 6 % at 10 mM and 16 % at 100 mM.
             ``"dho"``: Debye–Hückel–Onsager limiting law for a binary
             electrolyte (one cation, one anion, any valences); against the
             same standards it is low by 0.4 % at 1 mM and 0.7 % at 10 mM

@@ -171,7 +171,7 @@ def cases(draw):
         sigma = float(ek.grahame_charge(e, phi * VT * 0.5))
         wall = ek.Wall(charge_density=float(np.clip(sigma, -1, 1)))
     else:
-        wall = ek.Wall(zeta=phi * VT)
+        wall = ek.Wall(zeta=float(np.clip(phi * VT, -0.6, 0.6)))  # Wall accepts |zeta| <= 0.6 V
     return ch, e, wall
 
 

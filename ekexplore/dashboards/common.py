@@ -103,6 +103,7 @@ class Status:
 
     def __init__(self):
         self.widget = w.HTML(self._html("ok", "ready"))
+        self.widget.add_class("ekx-status-box")
         self.kind = "ok"
         self.message = "ready"
 

@@ -57,6 +57,7 @@ class DeviceView:
         self.controls = SetupControls(self.state, include_drive=True)
         self.status = Status()
         self.readout = w.HTML()
+        self.readout.add_class("ekx-readout")
         self.last = None
         self.error = None
         self._sig = None
@@ -66,6 +67,8 @@ class DeviceView:
             "generator": ColumnDataSource(dict(load=[], power=[], efficiency=[])),
             "best": ColumnDataSource(dict(load=[], power=[], efficiency=[])),
         }
+        for key, src in self.sources.items():
+            src.name = f"ekx-{key}"   # found by name in the page (browser tests)
         S = self.sources
         fp = new_figure(420, 330, "pump curve at the applied voltage", "back-pressure [kPa]",
                         "flow rate [µL/min]")

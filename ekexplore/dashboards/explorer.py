@@ -69,6 +69,7 @@ class ExplorerView:
         self.status = Status()
         self.verdict = w.HTML()
         self.matrix = w.HTML()
+        self.matrix.add_class("ekx-matrix")
         self.derived = w.HTML()
         self.code = w.Textarea(layout=w.Layout(width="900px", height="190px"),
                                disabled=False)
@@ -90,6 +91,8 @@ class ExplorerView:
             "velocity": ColumnDataSource(dict(x=[], pressure=[], eo=[])),
             "current": ColumnDataSource(dict(x=[], migration=[], convective=[])),
         }
+        for key, src in self.sources.items():
+            src.name = f"ekx-{key}"   # found by name in the page (browser tests)
         S = self.sources
         fw, fh = 290, 190
         f_phi = new_figure(fw, fh, "potential", "", "potential [mV]")

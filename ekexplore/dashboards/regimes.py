@@ -40,6 +40,7 @@ class RegimesView:
                                 style={"description_width": "90px"},
                                 layout=w.Layout(width="620px"))
         self.readout = w.HTML()
+        self.readout.add_class("ekx-readout")
         self.last_size = None
         self.last_kz = None
         self.error = None
@@ -54,6 +55,8 @@ class RegimesView:
             "point_size": ColumnDataSource(dict(x=[], y=[])),
             "point_kz": ColumnDataSource(dict(x=[], y=[])),
         }
+        for key, src in self.sources.items():
+            src.name = f"ekx-{key}"   # found by name in the page (browser tests)
         S = self.sources
         self.mappers = {"linear": LinearColorMapper(palette=Cividis256, low=0, high=1,
                                                     nan_color="#dddddd"),
