@@ -27,7 +27,7 @@ __all__ = ["transport_1d", "MODELS", "wall_potential_isolated", "dh_wall_potenti
 MODELS = ("thin", "dh", "pb")
 
 #: Computational spacing of the coarse pb grid in the log-mapped coordinate.
-PB_DXI = 0.08
+PB_DXI = 0.12
 #: Fewest cells of the coarse pb grid.
 PB_MIN_CELLS = 32
 #: Cells of the grid on which profiles are returned.
@@ -256,7 +256,9 @@ def _pb(b, m, accuracy=1e-6):
             f"{PB_PHI_MAX:g}; lower the charge, widen the channel or raise the concentration")
     x0 = _inner_scale(b, m, phi_est)
     need = np.maximum(PB_MIN_CELLS, np.ceil(np.log1p(1.0 / x0) / PB_DXI))
-    level = PB_MIN_CELLS * 2 ** np.ceil(np.log2(need / PB_MIN_CELLS)).astype(int)
+    # grid sizes come in steps of sqrt(2), so a point's grid depends on itself only
+    steps = np.ceil(2.0 * np.log2(need / PB_MIN_CELLS))
+    level = np.round(PB_MIN_CELLS * 2.0 ** (steps / 2.0)).astype(int)
     out = None
     for n in np.unique(level):
         idx = np.flatnonzero(level == n)
