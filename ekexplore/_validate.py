@@ -33,7 +33,17 @@ def check_range(name: str, value, lo: float | None = None, hi: float | None = No
                 unit: str = "", lo_open: bool = False, hi_open: bool = False,
                 hint: str = "") -> np.ndarray:
     """Check ``lo <= value <= hi`` element-wise (open ends where asked) and
-    return the value as a float array."""
+    return the value as a float array.
+
+    Examples
+    --------
+    >>> check_range("gap", [1e-6, 2e-6], 1e-9, 1e-2, unit="m").shape
+    (2,)
+    >>> check_range("gap", 0.5, 1e-9, 1e-2, unit="m")
+    Traceback (most recent call last):
+    ...
+    ValueError: gap = 0.5 m is outside the allowed range [1e-09, 0.01] m
+    """
     arr = as_float_array(name, value, unit)
     bad = np.zeros(arr.shape, dtype=bool)
     if lo is not None:
