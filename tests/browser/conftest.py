@@ -69,6 +69,11 @@ def server():
             lines.append(line)
             if "read-only) at " in line:
                 base = line.split(" at ", 1)[1].strip().rstrip("/")
+        while time.monotonic() < deadline and base is not None:
+            line = proc.stdout.readline()
+            lines.append(line)
+            if not line or "Ctrl+C" in line:
+                break
         if base is None:
             pytest.fail("ekexplore serve printed no URL: " + "".join(lines))
         # Wait on a static asset: fetching a notebook URL would start a kernel.
