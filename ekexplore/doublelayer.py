@@ -88,11 +88,25 @@ def make_grid(m, x0, n_cells):
 
 
 def _f(z, w, phi):
-    """f and f' (B, n) for valences z (k,), weights w (k, B), phi (B, n)."""
-    # sum z w = 0 (neutral bulk): expm1 keeps f exact at tiny potentials
-    em1 = np.expm1(-z[:, None, None] * phi[None])       # (k, B, n)
-    zw = (z[:, None] * w)[:, :, None]
-    return np.sum(zw * em1, axis=0), -np.sum(z[:, None, None] * zw * (em1 + 1.0), axis=0)
+    """f and f' (B, n) for valences z (k,), weights w (k, B), phi (B, n).
+
+    sum z w = 0 (neutral bulk), so f = sum z w expm1(-z phi) is exact at tiny
+    potentials. One ion at a time, in place: no (k, B, n) temporaries.
+    """
+    f = np.zeros_like(phi)
+    fp = np.zeros_like(phi)
+    em = np.empty_like(phi)
+    tmp = np.empty_like(phi)
+    for zi, wi in zip(z, w):
+        a = (zi * wi)[:, None]
+        np.multiply(phi, -zi, out=em)
+        np.expm1(em, out=em)
+        np.multiply(em, a, out=tmp)
+        f += tmp
+        em += 1.0
+        np.multiply(em, zi * a, out=tmp)
+        fp -= tmp
+    return f, fp
 
 
 def _g(z, w, phi):
@@ -194,10 +208,15 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-13, max_iter=200
 
     active = np.arange(B)
     for it in range(max_iter):
-        ph = phi[active]
-        ca, K2Va = c[active], K2V[active]
-        f, fp = _f(z, w[:, active], ph)
-        F = _laplacian(ca, ph) + K2Va * f + bvec[active]
+        if active.size == B:  # no copies while every point iterates
+            ph, ca, K2Va, wa, ba = phi, c, K2V, w, bvec
+        else:
+            ph, ca, K2Va, wa, ba = (phi[active], c[active], K2V[active], w[:, active],
+                                    bvec[active])
+        f, fp = _f(z, wa, ph)
+        F = _laplacian(ca, ph)
+        F += K2Va * f
+        F += ba
         d = -K2Va * fp
         d[:, :-1] += ca
         d[:, 1:] += ca
@@ -219,7 +238,7 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-13, max_iter=200
         # a full Newton step may overshoot (near it the step is accepted)
         t = np.ones(len(active))
         trial = ph + step
-        far = np.flatnonzero(np.max(np.abs(step), axis=1) > 0.25)
+        far = np.flatnonzero(big * scale > 0.25)
         if far.size:
             sub = active[far]
             e0 = energy(ph[far], sub)
@@ -233,7 +252,11 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-13, max_iter=200
                 trial[far] = ph[far] + tf[:, None] * step[far]
             t[far] = tf
         lim = 2.0 * PB_PHI_MAX / np.min(np.abs(z))
-        phi[active] = np.clip(trial, -lim, lim)
+        np.clip(trial, -lim, lim, out=trial)
+        if active.size == B:
+            phi = trial
+        else:
+            phi[active] = trial
         # at least one full step: near zero potential the problem is linear and
         # one step is exact, whatever the (absolute) accuracy of the start
         done = (big * t * scale <= tol * np.max(np.abs(trial), axis=1) + 1e-280) & (t == 1.0) \

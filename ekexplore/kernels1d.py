@@ -30,6 +30,8 @@ MODELS = ("thin", "dh", "pb")
 PB_DXI = 0.12
 #: Fewest cells of the coarse pb grid.
 PB_MIN_CELLS = 32
+#: Grid nodes per batch chunk of the pb solve (sized for the CPU cache).
+PB_CHUNK_NODES = 131072
 #: Cells of the grid on which profiles are returned.
 PROFILE_CELLS = 200
 
@@ -260,9 +262,14 @@ def _pb(b, m, accuracy=1e-6):
     steps = np.ceil(2.0 * np.log2(need / PB_MIN_CELLS))
     level = np.round(PB_MIN_CELLS * 2.0 ** (steps / 2.0)).astype(int)
     out = None
+    chunks = []
     for n in np.unique(level):
         idx = np.flatnonzero(level == n)
-        part = _pb_group(_subset(b, idx), m, x0[idx], int(n))
+        # chunks of a few thousand points keep the work arrays in cache
+        size = max(256, PB_CHUNK_NODES // int(n))
+        chunks += [(int(n), idx[i:i + size]) for i in range(0, idx.size, size)]
+    for n, idx in chunks:
+        part = _pb_group(_subset(b, idx), m, x0[idx], n)
         if out is None:
             out = {k: (np.empty(v.shape[:-1] + (b["B"],), dtype=v.dtype)) for k, v in part.items()}
         for k, v in part.items():
