@@ -157,7 +157,7 @@ def _initial_guess(grid, K, z, w, condition, value):
     return phi
 
 
-def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-13, max_iter=200):
+def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-7, max_iter=200):
     """Batched Newton solve of the scaled Poisson–Boltzmann equation.
 
     Parameters
@@ -188,7 +188,10 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-13, max_iter=200
     start. Each step solves one symmetric positive-definite tridiagonal
     system for the whole batch at once with LAPACK ``dptsv`` (the blocks are
     stacked with zero coupling). Stops when the Newton update is below
-    ``tol`` relative to the largest potential in every point; raises :class:`ConvergenceError` otherwise.
+    ``tol`` relative to the largest potential in every point, after a full
+    (undamped) Newton step: Newton converges quadratically there, so the
+    iterate is then exact to about ``tol**2`` and a further step would only
+    confirm it. Raises :class:`ConvergenceError` otherwise.
     """
     B, n = grid.x.shape
     c = grid.area / grid.dx                                  # (B, n-1)
