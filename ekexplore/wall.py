@@ -130,29 +130,32 @@ def _bulk(electrolyte, ndim=0):
     return z, c, electrolyte.temperature, electrolyte.permittivity
 
 
-# Taylor coefficients 1/k!, k = 2..17, for exp(x) - 1 - x near x = 0.
-_EXPREL2_COEF = np.array([0.0, 0.0] + [1.0 / math.factorial(k) for k in range(2, 18)])
+# Taylor coefficients 1/k!, k = 2..17, of (exp(x) - 1 - x) / x^2 near x = 0.
+_EXPREL2_COEF = np.array([1.0 / math.factorial(k) for k in range(2, 18)])
 
 
-def _expm1mx(x):
-    """exp(x) - 1 - x without cancellation: a Taylor series for |x| < 0.5
-    (truncation below 1e-18 relative) and expm1(x) - x beyond. Never negative."""
+def _exprel2(x):
+    """(exp(x) - 1 - x) / x^2 without cancellation or underflow: a Taylor
+    series for |x| < 0.5 (truncation below 1e-18 relative) and the direct form
+    beyond. Positive everywhere (1/2 at x = 0); inf where exp(x) overflows."""
     x = np.asarray(x, dtype=float)
-    with np.errstate(over="ignore"):
-        far = np.expm1(x) - x
-    near = np.polynomial.polynomial.polyval(np.clip(x, -0.5, 0.5), _EXPREL2_COEF)
-    return np.where(np.abs(x) < 0.5, near, far)
+    near = np.abs(x) < 0.5
+    xf = np.where(near, 1.0, x)
+    with np.errstate(over="ignore", invalid="ignore"):
+        far = (np.expm1(xf) - xf) / xf**2
+    series = np.polynomial.polynomial.polyval(np.where(near, x, 0.0), _EXPREL2_COEF)
+    return np.where(near, series, far)
 
 
-def _osmotic_sum(z, c, phi):
-    """sum_i c_i (exp(-z_i phi) - 1) [mol/m^3], with phi broadcast against c[0].
+def _osmotic_root(z, c, phi):
+    """sqrt(sum_i c_i (exp(-z_i phi) - 1)) [sqrt(mol/m^3)], phi broadcast against c[0].
 
-    Evaluated as sum_i c_i (exp(-z_i phi) - 1 + z_i phi), which is the same for
-    an electroneutral bulk (sum_i z_i c_i = 0) but has no cancellation at small
-    phi and is never negative, so the Grahame relation stays monotone and
-    accurate down to phi -> 0.
+    Evaluated as |phi| sqrt(sum_i c_i z_i^2 (exp(-z_i phi) - 1 + z_i phi)/(z_i phi)^2),
+    which is the same for an electroneutral bulk (sum_i z_i c_i = 0) but has no
+    cancellation and no underflow at small phi, so the Grahame relation stays
+    monotone and accurate down to phi -> 0 (and exactly 0 only at phi = 0).
     """
-    return np.sum(c * _expm1mx(-z * phi), axis=0)
+    return np.abs(phi) * np.sqrt(np.sum(c * z**2 * _exprel2(-z * phi), axis=0))
 
 
 def grahame_charge(electrolyte, zeta):
@@ -193,8 +196,8 @@ def grahame_charge(electrolyte, zeta):
     zeta = check_range("zeta", zeta, -ZETA_MAX, ZETA_MAX, unit="V")
     z, c, T, eps = _bulk(electrolyte, zeta.ndim)
     phi = zeta / _thermal_voltage(T)
-    s = _osmotic_sum(z, c, phi)
-    return np.sign(zeta) * np.sqrt(2 * eps * constants.k * T * constants.N_A * np.maximum(s, 0))
+    root = _osmotic_root(z, c, phi)
+    return np.sign(zeta) * np.sqrt(2 * eps * constants.k * T * constants.N_A) * root
 
 
 def grahame_potential(electrolyte, charge_density):
@@ -214,8 +217,9 @@ def grahame_potential(electrolyte, charge_density):
 
     Notes
     -----
-    Solved by bisection on the scaled potential (monotone relation), to a
-    relative accuracy of 1e-13; closed form for z:z salts is
+    Solved by bisection on the logarithm of the scaled potential (monotone
+    relation), to a relative accuracy of 1e-13 for any charge down to
+    1e-290 C/m²; closed form for z:z salts is
     ``(2kT/ze) asinh(sigma ze / (2 eps kappa kT))``.
 
     References
@@ -232,17 +236,21 @@ def grahame_potential(electrolyte, charge_density):
     sigma = check_range("charge_density", charge_density, -SIGMA_MAX, SIGMA_MAX, unit="C/m^2")
     z, c, T, eps = _bulk(electrolyte, sigma.ndim)
     shape = np.broadcast_shapes(sigma.shape, electrolyte.shape)
-    target = np.broadcast_to(sigma**2 / (2 * eps * constants.k * T * constants.N_A), shape)
+    target = np.broadcast_to(np.abs(sigma) / np.sqrt(2 * eps * constants.k * T * constants.N_A),
+                             shape)
     sgn = np.broadcast_to(np.sign(sigma), shape)
     zmin = np.min(np.abs(z))
-    lo = np.zeros(shape)
-    hi = np.full(shape, 200.0 / zmin)  # |phi| bracket; exp(200) stays finite
+    # bisection on log|phi| over the bracket [1e-300, 200/zmin], so that tiny
+    # charges keep their relative accuracy; 110 halvings of the log-ratio (about
+    # 700) reach machine precision with a wide margin
+    lo = np.full(shape, 1e-300)
+    hi = np.full(shape, 200.0 / zmin)
     for _ in range(110):
-        mid = 0.5 * (lo + hi)
-        above = _osmotic_sum(z, c, sgn * mid) > target
+        mid = np.sqrt(lo) * np.sqrt(hi)
+        above = _osmotic_root(z, c, sgn * mid) > target
         hi = np.where(above, mid, hi)
         lo = np.where(above, lo, mid)
-    phi = sgn * 0.5 * (lo + hi)
+    phi = sgn * np.sqrt(lo) * np.sqrt(hi)
     return phi * _thermal_voltage(T)
 
 
@@ -267,12 +275,14 @@ def _flat_wall_integrals(electrolyte, zeta):
     with np.errstate(over="ignore"):
         ez = np.expm1(-z * phi)                   # (q, n, ...)
     zz = np.sum(z**2 * c, axis=0)                 # (...)
-    # (dphi/dX)^2, cancellation-free (see _osmotic_sum); (q, 1, ...)
-    g = 2.0 * np.sum(c * _expm1mx(-z * phi), axis=1, keepdims=True) / zz
-    # phi = 0 only when phi_w = 0 (handled below); avoid 0/0 there
+    # |dphi/dX| / |phi|, cancellation- and underflow-free (see _osmotic_root); (q, 1, ...)
+    slope_rel = np.sqrt(2.0 * np.sum(c * z**2 * _exprel2(-z * phi), axis=1, keepdims=True)
+                        / zz)
+    # (e^{-z phi} - 1)/|dphi/dX|; phi = 0 only when u * phi_w underflows, where
+    # the ratio takes its limit -z sgn(phi_w)
     small = phi == 0
-    slope = np.where(small, 1.0, np.sqrt(g))
-    ratio = np.where(small, -z * np.sign(phi_w), ez / slope)  # (q, n, ...)
+    ratio = np.where(small, -z * np.sign(phi_w),
+                     ez / np.where(small, 1.0, np.abs(phi)) / slope_rel)  # (q, n, ...)
     jac = np.abs(phi_w)  # dphi = phi_w du, integrate in |phi|
     I_mig = np.sum(w * ratio, axis=0) * jac / kappa
     I_conv = np.sum(w * ratio * (phi - phi_w), axis=0) * jac / kappa
