@@ -13,10 +13,12 @@ from .doublelayer import ConvergenceError
 from .transport import solve, Result
 from .profiles import Profiles
 from .regimes import estimated_model_errors, regime_verdict
+from .sweep import sweep, design_table
 
 __all__ = [
     "Channel", "Slit", "Tube", "SHAPES", "register_shape", "ConvergenceError",
     "solve", "Result", "Profiles", "estimated_model_errors", "regime_verdict",
+    "sweep", "design_table",
     "water_relative_permittivity", "water_permittivity", "water_viscosity", "water_density",
     "Ion", "ION_TABLE", "SALTS", "Electrolyte", "debye_length",
     "Wall", "grahame_charge", "grahame_potential", "diffuse_layer_conductance",
