@@ -64,12 +64,28 @@ class Ion:
                     unit="m^2/s")
 
     def diffusivity_at(self, temperature):
-        """Diffusivity [m²/s] at ``temperature`` [K] by Stokes–Einstein scaling."""
+        """Diffusivity [m²/s] at ``temperature`` [K] by Stokes–Einstein scaling.
+
+        :math:`D(T) = D_{25}\,(T/298.15)\,\eta(298.15)/\eta(T)`, with the
+        IAPWS 2008 viscosity; temperature 273.15-373.15 K.
+
+        Examples
+        --------
+        >>> f"{float(ION_TABLE['K+'].diffusivity_at(310.15)):.3e}"
+        '2.621e-09'
+        """
         T = check_temperature(temperature)
         return self.diffusivity * (T / T_REF) * (water_viscosity(T_REF) / water_viscosity(T))
 
     def molar_conductivity_at(self, temperature):
-        """Limiting molar ionic conductivity z²F²D/(RT) [S m²/mol]."""
+        """Limiting molar ionic conductivity z²F²D/(RT) [S m²/mol] at
+        ``temperature`` [K] (Nernst–Einstein), per mole of ion.
+
+        Examples
+        --------
+        >>> f"{float(ION_TABLE['Ca2+'].molar_conductivity_at(298.15)) * 1e4:.2f} S cm2/mol"
+        '118.94 S cm2/mol'
+        """
         T = check_temperature(temperature)
         return self.valence**2 * F**2 * self.diffusivity_at(T) / (R * T)
 
@@ -220,6 +236,20 @@ class Electrolyte:
     @classmethod
     def salt(cls, name, concentration, temperature=T_REF):
         """A dissolved salt from :data:`SALTS` at ``concentration`` [mol/m³] of salt.
+
+        Parameters
+        ----------
+        name : str
+            A key of :data:`SALTS`, e.g. ``"KCl"``, ``"CaCl2"``, ``"Na2SO4"``.
+        concentration : array_like
+            Salt concentration [mol/m³] (= mM), non-negative; each ion gets its
+            stoichiometric multiple.
+        temperature : array_like, optional
+            Temperature [K], 273.15-373.15. Default 298.15.
+
+        Returns
+        -------
+        Electrolyte
 
         Examples
         --------
