@@ -157,7 +157,7 @@ def _initial_guess(grid, K, z, w, condition, value):
     return phi
 
 
-def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-7, max_iter=200):
+def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-6, max_iter=200):
     """Batched Newton solve of the scaled Poisson–Boltzmann equation.
 
     Parameters
