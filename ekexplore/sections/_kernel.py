@@ -1,0 +1,332 @@
+"""The transport kernel shared by every 2D section (see ``ekexplore._state``).
+
+Per parameter point it builds (or takes from the cache) two graded meshes,
+the second with half the spacing, solves the potential (Debye-Hueckel or
+Poisson-Boltzmann) and the flow on both, and combines the two by Richardson
+extrapolation. Half the difference of the two levels, over three, is the
+reported error: it is the estimated error of the finer level, and so bounds
+the error of the extrapolated value as long as the solution is in its
+asymptotic range.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from .._state import F, R as R_GAS
+from ._meshes import build_mesh
+from ._numerics import flow_profile, harmonic_extension, solve_potential
+
+__all__ = ["section_kernel", "DEFAULT_ACCURACY", "resolution", "scaled_solution",
+           "flow_solution"]
+
+#: Target relative error of the 2D solution when none is given [-].
+DEFAULT_ACCURACY = 1e-3
+#: Accuracy below which the mesh is not refined further (its size is capped).
+ACCURACY_FLOOR = 1e-5
+#: Coarse-level cells across the narrow direction at the default accuracy.
+_N_DEFAULT = 24
+#: Largest coarse-level resolution (the fine level doubles it).
+_N_MAX = 160
+
+
+def resolution(accuracy):
+    """Coarse-level cells n (multiple of 8) for a target relative error.
+
+    The discretisation error falls as n^-2, so n grows as accuracy^-1/2
+    from 24 cells at 1e-3; the fine level uses 2n.
+    """
+    acc = max(float(accuracy), ACCURACY_FLOOR)
+    n = _N_DEFAULT * np.sqrt(DEFAULT_ACCURACY / acc)
+    return int(min(_N_MAX, max(16, 8 * int(np.ceil(n / 8.0)))))
+
+
+def _gouy(lam, z, phi_w):
+    """Scaled inner length of a strongly charged wall: lam / (1 + sinh(|z phi_w|/2))."""
+    zmax = np.max(np.abs(z))
+    a = min(abs(zmax * phi_w), 80.0)
+    if a < 2.0:
+        return None
+    return lam / (1.0 + np.sinh(0.5 * a))
+
+
+def scaled_solution(mesh, kl2, w, z, condition, value, model, guess=None):
+    """Potential and the scaled area means on one mesh.
+
+    Returns a dict: ``phi`` nodal potential, ``h`` its discrete harmonic
+    extension from the wall, ``u`` the scaled Poiseuille profile, and the
+    means ``u_mean`` <u>, ``l12`` <phi - h>, ``l21`` (kappa L)^2 <g u> with g
+    the scaled charge density, ``mean_c`` <c_i>/c_i and ``conv`` <c_i/c_i (phi - h)>
+    per ion, ``phi_wall`` the wall-averaged potential and ``mean_g`` <g>.
+    """
+    phi, info = solve_potential(mesh, kl2, w, z, condition, value, model, guess)
+    u = flow_profile(mesh)
+    m = mesh.m / mesh.area
+    if condition == "potential":
+        h = np.full_like(phi, value)
+    else:
+        h = harmonic_extension(mesh, phi)
+    zc = z[:, None]
+    if model == "pb":
+        e = np.exp(-zc * phi[None, :])
+        g = w @ e
+        conc = e
+        conv_factor = e
+    else:   # dh: linear charge, Boltzmann factors to second (migration) and first order
+        g = -phi
+        conc = 1.0 - zc * phi[None, :] + 0.5 * zc**2 * phi[None, :] ** 2
+        conv_factor = 1.0 - zc * phi[None, :]
+    d = phi - h
+    wall = mesh.wall
+    return {
+        "phi": phi, "h": h, "u": u, "g": g, "info": info,
+        "u_mean": float(m @ u),
+        "l12": float(m @ d),
+        "l21": float(kl2 * (m @ (g * u))),
+        "mean_c": conc @ m,
+        "conv": (conv_factor * d[None, :]) @ m,
+        "phi_wall": float(mesh.b[wall] @ phi[wall] / mesh.b[wall].sum()),
+        "mean_g": float(m @ g),
+        "area": mesh.area, "perimeter": mesh.perimeter,
+    }
+
+
+def prolong(coarse, fine, values):
+    """Coarse nodal values carried to the fine mesh, a start for Newton there.
+
+    Fine nodes that coincide with coarse ones (the graded maps are nested)
+    take their value; the others the mean of their coinciding neighbours,
+    or of the nearest coarse node when none is adjacent.
+    """
+    from scipy.spatial import cKDTree
+    tree = getattr(coarse, "_tree", None)
+    if tree is None:
+        tree = coarse._tree = cKDTree(coarse.points)
+    dist, j = tree.query(fine.points)
+    same = dist <= 1e-9 * np.ptp(fine.points[:, 0])
+    out = values[j].astype(float)
+    adj = (fine.K != 0).astype(float)
+    known = np.where(same, out, 0.0)
+    num = adj @ known
+    cnt = adj @ same.astype(float)
+    fill = ~same & (cnt > 0)
+    out[fill] = num[fill] / cnt[fill]
+    return out
+
+
+def flow_solution(mesh):
+    """Scaled flow means on one mesh: <u> and the wall-shear integral over the area.
+
+    The wall shear is the discrete boundary flux of the flow, sum over wall
+    nodes of (m - K u), the force the walls exert per unit length and G.
+    """
+    u = flow_profile(mesh)
+    r = mesh.m - mesh.K @ u
+    return {"u": u, "u_mean": float(mesh.m @ u / mesh.area),
+            "shear": float(r[mesh.wall].sum() / mesh.area)}
+
+
+def _two_levels(kind, dims, n, lam, gouy, kl2, w, z, condition, value, model, lam_c):
+    """Solutions on the meshes with n and 2n cells and the estimated relative
+    error of the finer one, (f - c)/3 (second order), largest over the
+    hydraulic, electro-osmotic, streaming and migration coefficients."""
+    mc = build_mesh(kind, dims, n, lam, gouy)
+    mf = build_mesh(kind, dims, 2 * n, lam, gouy)
+    rc = scaled_solution(mc, kl2, w, z, condition, value, model)
+    rf = scaled_solution(mf, kl2, w, z, condition, value, model,
+                         guess=prolong(mc, mf, rc["phi"]))
+    keys = ("u_mean", "l12", "l21") if abs(rf["l12"]) > 1e-300 else ("u_mean",)
+    errs = [abs(rf[k] - rc[k]) / max(abs(rf[k]), 1e-300) for k in keys]
+    mig_c, mig_f = lam_c @ rc["mean_c"], lam_c @ rf["mean_c"]
+    errs.append(abs(mig_f - mig_c) / mig_f)
+    return rc, rf, max(errs) / 3.0
+
+
+def _rich(c, f):
+    return (4.0 * f - c) / 3.0
+
+
+def _flat_conditions(cond):
+    shape = cond.shape
+    B = int(np.prod(shape)) if shape else 1
+
+    def f1(a):
+        return np.broadcast_to(a, shape).reshape(B).astype(float)
+
+    def fk(a):
+        return np.broadcast_to(a, a.shape[:1] + shape).reshape(a.shape[0], B).astype(float)
+
+    z = np.asarray(cond.valences, dtype=float)
+    c = fk(cond.concentrations)
+    out = dict(B=B, z=z, c=c, D=fk(cond.diffusivities), T=f1(cond.temperature),
+               eps=f1(cond.permittivity), eta=f1(cond.viscosity), kappa=f1(cond.kappa),
+               value=f1(cond.wall_value), VT=f1(cond.thermal_voltage))
+    zz = np.sum(z[:, None] ** 2 * c, axis=0)
+    out["w"] = z[:, None] * c / zz                       # z_i c_i / sum z^2 c
+    out["lam"] = z[:, None] ** 2 * F**2 * out["D"] / (R_GAS * out["T"])
+    return out
+
+
+def _choose(channel, b, geo, model, cond, options):
+    """Models per point; for 'auto' the a-priori estimates of ekexplore.regimes."""
+    if model != "auto":
+        return np.full(b["B"], model), None
+    try:
+        from ..regimes import choose_models
+        from ..kernels1d import wall_potential_isolated
+    except ImportError:   # pragma: no cover - the core always ships them
+        return np.full(b["B"], "pb"), None
+    Lh = geo["half_size"]
+    K = b["kappa"] * Lh
+    if cond.wall_condition == "potential":
+        phi_est = b["value"] / b["VT"]
+    else:
+        sig = b["value"] * Lh / (b["eps"] * b["VT"])
+        iso = wall_potential_isolated(b["z"], b["c"] / np.sum(b["z"][:, None]**2 * b["c"], 0),
+                                      K, sig)
+        # Donnan-like estimate for overlapped layers: charge over the area's screening
+        dh = sig * geo["perimeter"] * Lh / (geo["area"] * K**2)
+        phi_est = np.where(np.abs(dh) > np.abs(iso), np.clip(dh, -40, 40), iso)
+    chosen, est = choose_models(K, phi_est, b["z"], "section", options.get("tol", 0.01),
+                                condition=cond.wall_condition)
+    return np.asarray(chosen), est
+
+
+def section_kernel(channel, cond, model, options):
+    """Kernel for a 2D section: see ``ekexplore._state`` for the returned dict."""
+    from ..doublelayer import flat_layer_integrals
+    from ..kernels1d import wall_potential_isolated
+
+    accuracy = options.get("accuracy")
+    accuracy = DEFAULT_ACCURACY if accuracy is None else accuracy
+    n = resolution(accuracy)
+    b = _flat_conditions(cond)
+    B = b["B"]
+    shape = cond.shape
+    geo = channel._geometry_arrays(shape)          # dict of (B,) arrays and per-point specs
+    chosen, est = _choose(channel, b, geo, model, cond, options)
+    nion = len(b["z"])
+    out = {k: np.empty(B) for k in ("L11", "L12", "L21", "L22_migration", "L22_convection",
+                                    "wall_potential", "wall_charge", "error")}
+    out["ion_current"] = np.empty((nion, B))
+    z = b["z"]
+    for k in range(B):
+        spec = geo["spec"][k]                      # (kind, scaled dims, L)
+        kind, dims, L = spec
+        eps, eta, VT = b["eps"][k], b["eta"][k], b["VT"][k]
+        kappa = b["kappa"][k]
+        c, w, lam_i = b["c"][:, k], b["w"][:, k], b["lam"][:, k]
+        lam = 1.0 / (kappa * L)
+        A_exact, P_exact = geo["area"][k], geo["perimeter"][k]
+        name = chosen[k]
+        if cond.wall_condition == "potential":
+            phi_w = b["value"][k] / VT
+            sig_s = None
+        else:
+            sig_s = b["value"][k] * L / (eps * VT)
+            phi_w = None
+        if name == "thin":
+            if phi_w is None:
+                phi_w = float(wall_potential_isolated(z, (c / np.sum(z**2 * c))[:, None],
+                                                      np.array([kappa * L]),
+                                                      np.array([sig_s]))[0])
+            exact = channel._exact_flow_mean_values(*geo["values"][k])  # [m^2] or None
+            fc = flow_solution(build_mesh(kind, dims, n))
+            ff = flow_solution(build_mesh(kind, dims, 2 * n))
+            if exact is None:
+                u_mean = L**2 * _rich(fc["u_mean"], ff["u_mean"])
+                err = abs(ff["u_mean"] - fc["u_mean"]) / 3.0 / ff["u_mean"]
+            else:
+                u_mean = exact
+                err = 0.0
+            shear = _rich(fc["shear"], ff["shear"])
+            L12 = -eps * VT * phi_w / eta
+            # streaming: wall shear per G times the first moment of the diffuse
+            # charge (int rho y dy = -eps zeta), over eta and the area
+            L21 = (-eps * VT * phi_w / eta) * shear
+            I_mig, I_conv = flat_layer_integrals(z, c[:, None], np.array([phi_w]))
+            I_mig, I_conv = I_mig[:, 0], I_conv[:, 0]
+            pa = P_exact / A_exact / kappa
+            bulk = lam_i * c
+            mig = bulk + pa * bulk * I_mig
+            conv_s = -phi_w + pa * I_conv
+            conv = z * F * c * eps * VT / eta * conv_s
+            sigma = eps * VT * kappa * np.sign(phi_w) * np.sqrt(
+                max(2.0 * np.sum((c / np.sum(z**2 * c)) * np.expm1(-z * phi_w)), 0.0))
+            if sig_s is not None:
+                sigma = b["value"][k]
+            L11 = u_mean / eta
+            wall_phi = phi_w
+        else:
+            series = None
+            if name == "dh" and phi_w is not None and options.get("rectangle_series", True):
+                series = channel._dh_series_values(*geo["values"][k], kappa)
+            if series is not None and series["tail"] < 0.1 * accuracy:
+                s = series
+                L11 = s["mean_u"] / eta
+                L12 = eps * VT / eta * (-phi_w * s["one_minus_mean_phi"])
+                L21 = eps * VT / eta * (-kappa**2 * phi_w * s["mean_phi_u"])
+                mean_c = 1.0 - z * phi_w * s["mean_phi"] + 0.5 * z**2 * phi_w**2 * s["mean_phi2"]
+                conv_s = -phi_w * s["one_minus_mean_phi"] - z * phi_w**2 * (
+                    s["mean_phi2"] - s["mean_phi"])
+                mig = lam_i * c * mean_c
+                conv = z * F * c * eps * VT / eta * conv_s
+                sigma = eps * VT * kappa**2 * phi_w * s["mean_phi"] * A_exact / P_exact
+                wall_phi = phi_w
+                err = s["tail"]
+            else:
+                value = phi_w if phi_w is not None else sig_s
+                cond_name = "potential" if phi_w is not None else "charge"
+                gouy = None
+                if phi_w is not None and name == "pb":
+                    gouy = _gouy(lam, z, phi_w)
+                elif name == "pb":
+                    est_phi = wall_potential_isolated(z, (c / np.sum(z**2 * c))[:, None],
+                                                      np.array([kappa * L]),
+                                                      np.array([sig_s]))[0]
+                    gouy = _gouy(lam, z, est_phi)
+                kl2 = (kappa * L) ** 2
+                nk = n
+                for attempt in range(2):
+                    rc, rf, err = _two_levels(kind, dims, nk, lam, gouy, kl2, w, z, cond_name,
+                                              value, name, lam_i * c)
+                    if err <= accuracy or nk >= _N_MAX:
+                        break
+                    # error ~ n^-2: refine once to the resolution the estimate asks for
+                    nk = min(_N_MAX, 8 * int(np.ceil(1.2 * nk * np.sqrt(err / accuracy) / 8)))
+                ex = {key: _rich(rc[key], rf[key]) for key in
+                      ("u_mean", "l12", "l21", "mean_c", "conv", "phi_wall", "mean_g")}
+                exact = channel._exact_flow_mean_values(*geo["values"][k])
+                L11 = L**2 * ex["u_mean"] / eta
+                L12 = eps * VT / eta * ex["l12"]
+                L21 = eps * VT / eta * ex["l21"]
+                mig = lam_i * c * ex["mean_c"]
+                conv = z * F * c * eps * VT / eta * ex["conv"]
+                # wall charge from neutrality: sigma P = -int rho dA
+                sigma = -(eps * kappa**2 * VT) * ex["mean_g"] * rf["area"] / rf["perimeter"] * L
+                if sig_s is not None:
+                    sigma = b["value"][k]
+                wall_phi = ex["phi_wall"]
+                if exact is not None:
+                    L11 = exact / eta
+        out["L11"][k] = L11
+        out["L12"][k] = L12
+        out["L21"][k] = L21
+        out["L22_migration"][k] = np.sum(mig)
+        out["L22_convection"][k] = np.sum(conv)
+        out["ion_current"][:, k] = mig + conv
+        out["wall_potential"][k] = wall_phi * VT
+        out["wall_charge"][k] = sigma
+        out["error"][k] = err
+    if est is not None:
+        for name in ("thin", "dh"):
+            sel = chosen == name
+            out["error"][sel] = np.maximum(out["error"][sel], est[name][sel])
+    for key in list(out):
+        if key == "ion_current":
+            out[key] = out[key].reshape((nion,) + shape)
+        else:
+            out[key] = out[key].reshape(shape)
+    out["model"] = chosen.reshape(shape) if shape else str(chosen[0])
+    from .profiles import section_profiles_factory
+    out["profiles"] = section_profiles_factory(channel, cond, out["model"], accuracy)
+    return out

@@ -1,0 +1,173 @@
+"""Mesh builders for each section, in units of the reference length L.
+
+Each builder takes the scaled dimensions, the resolution ``n`` (cells
+across the narrow direction) and the grading scales, and returns a
+:class:`~ekexplore.sections._mesh.Mesh`. ``lam`` is the scaled Debye length
+(None: flow only), ``gouy`` the scaled inner (Gouy-Chapman) length of a
+strongly charged wall (None when the wall potential is small).
+"""
+from __future__ import annotations
+
+from functools import lru_cache
+
+import numpy as np
+
+from ._mesh import Mesh, fan_block, graded, merge_blocks, monitor_mass, polar_block, tensor_block
+
+__all__ = ["build_mesh", "wall_scales"]
+
+_MERGE_TOL = 1e-11
+#: Log-layer node weight per end, see :func:`wall_scales`.
+_LOG_WEIGHT = 0.5
+
+
+def wall_scales(length, lam, extra=()):
+    """Grading scales, as fractions of ``length``, for a direction ending at
+    walls: the flow scales ``extra``, the Debye length and a quarter of it."""
+    out = [e / length for e in extra]
+    if lam is not None:
+        out += [lam / length, 0.25 * lam / length]
+    return out
+
+
+def _nodes(n, length, lam, gouy, extra=(), walls=(True, True)):
+    """Graded nodes along one direction of ``length`` ending at ``walls``.
+
+    ``n`` cells go to the smooth part; a strongly charged wall (``gouy``
+    given) adds cells in proportion to the monitor mass of its log layer,
+    about 8 per e-fold of distance at the default accuracy.
+    """
+    scales = wall_scales(length, lam, extra)
+    logs = []
+    if gouy is not None and lam is not None:
+        logs = [(gouy / length, lam / length)]
+    if not logs:
+        return graded(n, scales, walls)
+    base = monitor_mass(scales, walls)
+    total = monitor_mass(scales, walls, logs, _LOG_WEIGHT)
+    q = np.ceil(4.0 * total / base) / 4.0
+    return graded(int(round(n * q)), scales, walls, logs, _LOG_WEIGHT)
+
+
+def _cells(n, f):
+    """Cells along a direction: n f with f rounded to eighths, so that the
+    count doubles exactly with n (n is a multiple of 8)."""
+    return int(n * max(1, round(8 * f)) // 8)
+
+
+def _bucket(v, step):
+    """Round log2(v) to ``step`` so nearby parameter values share one mesh."""
+    if v is None:
+        return None
+    return float(2.0 ** (np.round(np.log2(v) / step) * step))
+
+
+def mesh_key(kind, dims, n, lam, gouy):
+    dims = tuple(float(f"{d:.12g}") for d in dims)
+    lam = None if lam is None or lam > 2.0 else _bucket(lam, 0.25)
+    gouy = None if (gouy is None or lam is None or gouy > 0.5 * lam) else _bucket(gouy, 0.5)
+    return (kind, dims, int(n), lam, gouy)
+
+
+@lru_cache(maxsize=64)
+def _cached(key):
+    kind, dims, n, lam, gouy = key
+    return _BUILDERS[kind](dims, n, lam, gouy)
+
+
+def build_mesh(kind, dims, n, lam=None, gouy=None):
+    """The (cached) mesh of section ``kind`` with scaled ``dims``."""
+    return _cached(mesh_key(kind, dims, n, lam, gouy))
+
+
+# ----------------------------------------------------------------------------
+def _trapezoid(dims, n, lam, gouy):
+    top, bottom, depth = dims
+    wide = max(top, bottom)
+    slope = abs(top - bottom) / 2.0
+    cosa = depth / np.hypot(depth, slope)
+    extra_s = [depth] if depth < wide else []
+    extra_t = [wide] if wide < depth else []
+    ns = _cells(n, max(1.0, min(2.0, wide / depth)))
+    s = _nodes(ns, wide * cosa, lam, gouy, extra_s)
+    t = _nodes(n, depth, lam, gouy, extra_t)
+    y = t * depth
+    half = 0.5 * (bottom + (top - bottom) * t)
+    P, T = tensor_block(-half, half, y, s)
+    return Mesh(*merge_blocks([(P, T)], _MERGE_TOL * depth))
+
+
+def _etch(dims, n, lam, gouy):
+    mask, depth = dims
+    d = depth
+    t = _nodes(n, d, lam, gouy)                       # floor (0) to top (1)
+    y = t * d
+    r = d - y[::-1]                                   # 0 at the top corner point
+    r[0], r[-1] = 0.0, d
+    arc_len = 0.5 * np.pi * d
+    nth = _cells(n, 0.875)
+    th = _nodes(nth, arc_len, lam, gouy, walls=(False, True))   # wall at theta = 0
+    theta = -0.5 * np.pi * (1.0 - th)
+    blocks = []
+    for sgn in (1.0, -1.0):
+        cx = sgn * 0.5 * mask
+        P, T = polar_block(0.0, 0.0, 1.0, 1.0, r, theta)
+        P = P.copy()
+        P[:, 0] = cx + sgn * P[:, 0]
+        P[:, 1] = d + P[:, 1]
+        # the interface ray theta = -pi/2 exactly on x = cx, y = d - r
+        R = np.repeat(r, len(theta))
+        on = np.tile(np.arange(len(theta)) == 0, len(r))
+        P[on, 0] = cx
+        P[on, 1] = d - R[on]
+        blocks.append((P, T))
+    if mask > 0:
+        ratio = mask / d
+        ns = _cells(n, 0.5 * min(2.0, max(ratio, 0.25)))
+        s = _nodes(ns, mask, None, None, extra=[d] if d < mask else [])
+        P, T = tensor_block(np.full(len(y), -0.5 * mask), np.full(len(y), 0.5 * mask),
+                            d - r[::-1], s)
+        blocks.append((P, T))
+    return Mesh(*merge_blocks(blocks, _MERGE_TOL * d))
+
+
+def _ellipse(dims, n, lam, gouy):
+    width, height = dims
+    a, b = 0.5 * width, 0.5 * height
+    small, big = min(a, b), max(a, b)
+    nr = _cells(n, 0.5)
+    extra = [] if lam is None or big == small else [lam * small / big]
+    r = _nodes(nr, small, lam, gouy, extra=extra, walls=(False, True))
+    nth = _cells(n, 2.0 * max(1.0, min(2.0, big / small)))
+    theta = np.linspace(0.0, 2.0 * np.pi, nth + 1)
+    P, T = polar_block(0.0, b, a, b, r, theta)
+    return Mesh(*merge_blocks([(P, T)], _MERGE_TOL * small))
+
+
+def _polygon(dims, n, lam, gouy):
+    k = (len(dims) - 2) // 2
+    c = np.array(dims[:2])
+    V = np.array(dims[2:]).reshape(k, 2)
+    W = np.roll(V, -1, axis=0)
+    edge = W - V
+    length = np.linalg.norm(edge, axis=1)
+    normal = np.stack([edge[:, 1], -edge[:, 0]], 1) / length[:, None]
+    dist = np.abs(np.sum((V - c) * normal, axis=1))
+    # one radial node set for all fans (they share the rays to the corners),
+    # graded for the double layer of every wall at its own distance
+    dmin = dist.min()
+    extra = []
+    if lam is not None:
+        extra = [lam * dmin / dj for dj in np.unique(np.round(dist / dmin, 1) * dmin)
+                 if dj > 1.05 * dmin]
+    t = _nodes(_cells(n, 0.5), dmin, lam, gouy, extra=extra,
+               walls=(False, True))
+    blocks = []
+    for i in range(k):
+        ns = _cells(n, min(2.0, max(0.5, 0.5 * length[i] / dist[i])))
+        s = _nodes(ns, length[i], lam, gouy, extra=[dist[i]] if dist[i] < length[i] else [])
+        blocks.append(fan_block(c, V[i], W[i], t, s))
+    return Mesh(*merge_blocks(blocks, _MERGE_TOL * dmin))
+
+
+_BUILDERS = {"trapezoid": _trapezoid, "etch": _etch, "ellipse": _ellipse, "polygon": _polygon}

@@ -1,0 +1,292 @@
+"""Fields over a 2D cross-section, with their coordinates, cuts and images."""
+from __future__ import annotations
+
+import numpy as np
+from scipy.spatial import cKDTree
+
+from .._state import F, R as R_GAS
+
+__all__ = ["SectionProfiles", "UNITS", "section_profiles_factory"]
+
+#: Unit of every field.
+UNITS = {
+    "x": "m", "y": "m", "potential": "V", "concentrations": "mol/m^3",
+    "charge_density": "C/m^3", "velocity_pressure": "m/s", "velocity_electroosmotic": "m/s",
+    "current_migration": "A/m^2", "current_convective": "A/m^2",
+}
+_FIELDS = ("potential", "charge_density", "velocity_pressure", "velocity_electroosmotic",
+           "current_migration", "current_convective")
+
+
+class SectionProfiles:
+    """Fields of one parameter point at the nodes of the section's mesh.
+
+    Attributes
+    ----------
+    x, y : ndarray (N,)
+        Node coordinates [m]: x across the width, y up from the floor.
+    triangles : ndarray (nt, 3)
+        Node indices of the mesh triangles (linear interpolation inside).
+    potential, charge_density, velocity_pressure, velocity_electroosmotic,
+    current_migration, current_convective : ndarray (N,)
+        Fields in the units of :data:`UNITS`, for the driving gradients
+        ``pressure_gradient`` = -dp/dx [Pa/m] and ``field`` = E_x [V/m].
+    concentrations : ndarray (n_ions, N)
+        Ion concentrations [mol/m^3], in the order of ``ion_names``.
+    wall : ndarray of bool (N,)
+        True at wall nodes.
+    centre : ndarray (2,)
+        The point the cuts go through [m].
+    """
+
+    def __init__(self, x, y, triangles, wall, fields, concentrations, ion_names, model,
+                 pressure_gradient, field, debye_length, centre, wall_edges):
+        self.x, self.y, self.triangles, self.wall = x, y, triangles, wall
+        for k in _FIELDS:
+            setattr(self, k, fields[k])
+        self.concentrations = concentrations
+        self.ion_names = tuple(ion_names)
+        self.model = model
+        self.pressure_gradient = float(pressure_gradient)
+        self.field = float(field)
+        self.debye_length = float(debye_length)
+        self.centre = np.asarray(centre, dtype=float)
+        self._wall_edges = wall_edges
+        self.units = dict(UNITS)
+        self._tree = None
+
+    @property
+    def velocity(self):
+        """Total axial velocity [m/s]."""
+        return self.velocity_pressure + self.velocity_electroosmotic
+
+    @property
+    def current_density(self):
+        """Total axial current density [A/m^2]."""
+        return self.current_migration + self.current_convective
+
+    def as_arrays(self):
+        """Dict name -> nodal array (units in :attr:`units`)."""
+        out = {"x": self.x, "y": self.y}
+        out.update({k: getattr(self, k) for k in _FIELDS})
+        for i, name in enumerate(self.ion_names):
+            out[f"c_{name}"] = self.concentrations[i]
+        return out
+
+    # -- interpolation -------------------------------------------------------------
+    def _locate(self, q):
+        """Triangle index and barycentric weights of points q (nq, 2); -1 outside."""
+        P = np.stack([self.x, self.y], 1)
+        T = self.triangles
+        if self._tree is None:
+            self._tree = cKDTree(P[T].mean(axis=1))
+        k = min(64, len(T))
+        _, cand = self._tree.query(q, k=k)
+        cand = np.atleast_2d(cand)
+        a, b, c = P[T[cand, 0]], P[T[cand, 1]], P[T[cand, 2]]
+        v0, v1 = b - a, c - a
+        v2 = q[:, None, :] - a
+        den = v0[..., 0] * v1[..., 1] - v0[..., 1] * v1[..., 0]
+        l1 = (v2[..., 0] * v1[..., 1] - v2[..., 1] * v1[..., 0]) / den
+        l2 = (v0[..., 0] * v2[..., 1] - v0[..., 1] * v2[..., 0]) / den
+        l0 = 1.0 - l1 - l2
+        tol = 1e-9
+        inside = (l0 >= -tol) & (l1 >= -tol) & (l2 >= -tol)
+        first = np.argmax(inside, axis=1)
+        found = inside[np.arange(len(q)), first]
+        tri = np.where(found, cand[np.arange(len(q)), first], -1)
+        lam = np.stack([l0, l1, l2], -1)[np.arange(len(q)), first]
+        return tri, lam
+
+    def sample(self, xq, yq):
+        """Fields interpolated at points (xq, yq) [m]; NaN outside the section."""
+        xq, yq = np.broadcast_arrays(np.asarray(xq, float), np.asarray(yq, float))
+        q = np.stack([xq.ravel(), yq.ravel()], 1)
+        tri, lam = self._locate(q)
+        ok = tri >= 0
+        nodes = self.triangles[np.where(ok, tri, 0)]
+        out = {"x": xq, "y": yq}
+        for name, v in self.as_arrays().items():
+            if name in ("x", "y"):
+                continue
+            val = np.sum(v[nodes] * lam, axis=1)
+            out[name] = np.where(ok, val, np.nan).reshape(xq.shape)
+        return out
+
+    def on_grid(self, nx=101, ny=101):
+        """Fields on a regular nx x ny grid over the bounding box, for images.
+
+        Returns a dict with ``x`` (nx,), ``y`` (ny,) [m] and each field as an
+        (ny, nx) array, NaN outside the section.
+        """
+        gx = np.linspace(self.x.min(), self.x.max(), nx)
+        gy = np.linspace(self.y.min(), self.y.max(), ny)
+        X, Y = np.meshgrid(gx, gy)
+        out = self.sample(X, Y)
+        out["x"], out["y"] = gx, gy
+        return out
+
+    def _wall_hits(self, origin, direction):
+        """Parameters t >= 0 where origin + t direction meets a wall edge."""
+        P = np.stack([self.x, self.y], 1)
+        a, b = P[self._wall_edges[:, 0]], P[self._wall_edges[:, 1]]
+        e = b - a
+        den = direction[0] * e[:, 1] - direction[1] * e[:, 0]
+        ok = np.abs(den) > 1e-300
+        w = a - origin
+        t = np.where(ok, (w[:, 0] * e[:, 1] - w[:, 1] * e[:, 0]) / np.where(ok, den, 1), np.nan)
+        s = np.where(ok, (w[:, 0] * direction[1] - w[:, 1] * direction[0]) / np.where(ok, den, 1),
+                     np.nan)
+        hit = ok & (s >= -1e-12) & (s <= 1 + 1e-12)
+        return t[hit]
+
+    def cut(self, start, end, n=201):
+        """Fields along the segment start -> end [m], n points; adds ``distance`` [m]."""
+        start, end = np.asarray(start, float), np.asarray(end, float)
+        s = np.linspace(0.0, 1.0, n)
+        pts = start[None] + s[:, None] * (end - start)[None]
+        out = self.sample(pts[:, 0], pts[:, 1])
+        out["distance"] = s * np.linalg.norm(end - start)
+        return out
+
+    def _span(self, direction, n):
+        d = np.asarray(direction, float)
+        t = self._wall_hits(self.centre, d)
+        lo, hi = t[t <= 0].max(), t[t >= 0].min()
+        return self.cut(self.centre + lo * d, self.centre + hi * d, n)
+
+    def centreline(self, n=201):
+        """Horizontal cut through the centre, wall to wall."""
+        return self._span((1.0, 0.0), n)
+
+    def vertical_centreline(self, n=201):
+        """Vertical cut through the centre, floor (or bottom wall) to top."""
+        return self._span((0.0, 1.0), n)
+
+    def wall_normal(self, n=201):
+        """Cut from the wall point nearest the centre to the centre (``distance``
+        is then the distance from the wall)."""
+        P = np.stack([self.x, self.y], 1)
+        a, b = P[self._wall_edges[:, 0]], P[self._wall_edges[:, 1]]
+        e = b - a
+        t = np.clip(np.sum((self.centre - a) * e, 1) / np.sum(e * e, 1), 0.0, 1.0)
+        foot = a + t[:, None] * e
+        j = int(np.argmin(np.linalg.norm(foot - self.centre, axis=1)))
+        # a geometric cut, graded toward the wall so the double layer shows
+        return self._graded_cut(foot[j], self.centre, n)
+
+    def _graded_cut(self, wall_point, centre, n):
+        s = np.linspace(0.0, 1.0, n)
+        length = np.linalg.norm(centre - wall_point)
+        lam = min(self.debye_length / max(length, 1e-300), 1.0)
+        # when the layer is thin, half the points within five Debye lengths of the wall
+        g = s
+        if lam < 0.2:
+            inner = 5 * lam * (s[s < 0.5] / 0.5)
+            outer = 5 * lam + (1 - 5 * lam) * (s[s >= 0.5] - 0.5) / 0.5
+            g = np.concatenate([inner, outer])
+        pts = wall_point[None] + g[:, None] * (centre - wall_point)[None]
+        out = self.sample(pts[:, 0], pts[:, 1])
+        out["distance"] = g * length
+        return out
+
+    def to_frame(self):
+        """A pandas DataFrame: one row per mesh node, columns with units
+        (``potential [V]`` ...). Needs pandas (not a core dependency)."""
+        try:
+            import pandas as pd
+        except ImportError as exc:  # pragma: no cover - depends on the environment
+            raise ImportError("to_frame needs pandas: pip install pandas") from exc
+        cols = {"x [m]": self.x, "y [m]": self.y, "wall": self.wall}
+        for k in _FIELDS:
+            cols[f"{k} [{UNITS[k]}]"] = getattr(self, k)
+        for i, name in enumerate(self.ion_names):
+            cols[f"c_{name} [mol/m^3]"] = self.concentrations[i]
+        return pd.DataFrame(cols)
+
+    def __repr__(self):
+        return (f"SectionProfiles(nodes={len(self.x)}, model={self.model!r}, "
+                f"pressure_gradient={self.pressure_gradient:g}, field={self.field:g})")
+
+
+def _wall_distance(P, wall_edges):
+    """Distance of every node to the nearest wall edge (chunked brute force)."""
+    a, b = P[wall_edges[:, 0]], P[wall_edges[:, 1]]
+    e = b - a
+    ee = np.sum(e * e, 1)
+    out = np.empty(len(P))
+    for i in range(0, len(P), 2000):
+        q = P[i:i + 2000]
+        t = np.clip(np.einsum("qek,ek->qe", q[:, None] - a[None], e) / ee, 0, 1)
+        foot = a[None] + t[..., None] * e[None]
+        out[i:i + 2000] = np.min(np.linalg.norm(q[:, None] - foot, axis=2), axis=1)
+    return out
+
+
+def section_profiles_factory(channel, cond, models, accuracy):
+    """The ``profiles`` callable of a section kernel result."""
+    from ._kernel import _flat_conditions, _gouy, resolution, scaled_solution, flow_solution
+    from ._meshes import build_mesh
+
+    def make(pressure_gradient=1.0, field=1.0):
+        b = _flat_conditions(cond)
+        geo = channel._geometry_arrays(cond.shape)
+        mods = np.broadcast_to(np.asarray(models), cond.shape).reshape(-1)
+        n = 2 * resolution(accuracy)
+        result = np.empty(b["B"], dtype=object)
+        z = b["z"]
+        for k in range(b["B"]):
+            kind, dims, L = geo["spec"][k]
+            eps, eta, VT, kappa = b["eps"][k], b["eta"][k], b["VT"][k], b["kappa"][k]
+            c, w, lam_i = b["c"][:, k], b["w"][:, k], b["lam"][:, k]
+            lam = 1.0 / (kappa * L)
+            name = str(mods[k])
+            potential_wall = cond.wall_condition == "potential"
+            value = b["value"][k] / VT if potential_wall else b["value"][k] * L / (eps * VT)
+            if name == "thin":
+                mesh = build_mesh(kind, dims, n, lam)
+                u = flow_solution(mesh)["u"]
+                if potential_wall:
+                    phi_w = value
+                else:
+                    from ..kernels1d import wall_potential_isolated
+                    phi_w = float(wall_potential_isolated(
+                        z, (c / np.sum(z**2 * c))[:, None], np.array([kappa * L]),
+                        np.array([value]))[0])
+                dist = _wall_distance(mesh.points, mesh.wall_edges)
+                zc = np.max(np.abs(z))
+                phi = 4.0 / zc * np.arctanh(np.tanh(zc * phi_w / 4.0) * np.exp(-dist / lam))
+                ueo_s = np.full_like(phi, -phi_w)
+            else:
+                gouy = _gouy(lam, z, value) if (name == "pb" and potential_wall) else None
+                mesh = build_mesh(kind, dims, n, lam, gouy)
+                r = scaled_solution(mesh, (kappa * L) ** 2, w, z,
+                                    "potential" if potential_wall else "charge", value, name)
+                phi, u = r["phi"], r["u"]
+                ueo_s = phi - r["h"]
+            zc = z[:, None]
+            if name == "dh":
+                conc = c[:, None] * (1.0 - zc * phi[None] + 0.5 * zc**2 * phi[None] ** 2)
+                rho = -eps * kappa**2 * VT * phi
+            else:
+                conc = c[:, None] * np.exp(-zc * phi[None])
+                rho = F * (z @ conc)
+            up = pressure_gradient * L**2 / eta * u
+            ueo = field * eps * VT / eta * ueo_s
+            mig = field * (lam_i @ conc)
+            conv = rho * (up + ueo)
+            P = mesh.points * L
+            centre = (mesh.m @ mesh.points) / mesh.area * L
+            if kind == "polygon":
+                centre = np.array(dims[:2]) * L
+            fields = {"potential": phi * VT, "charge_density": rho, "velocity_pressure": up,
+                      "velocity_electroosmotic": ueo, "current_migration": mig,
+                      "current_convective": conv}
+            result[k] = SectionProfiles(P[:, 0], P[:, 1], mesh.triangles, mesh.wall, fields,
+                                        conc, cond.ion_names, name, pressure_gradient, field,
+                                        lam * L, centre, mesh.wall_edges)
+        if cond.shape == ():
+            return result[0]
+        return result.reshape(cond.shape)
+
+    return make
