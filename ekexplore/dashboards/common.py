@@ -10,10 +10,10 @@ import traitlets
 
 import ekexplore as ek
 
-from .state import CONCENTRATION_RANGE, CUSTOM, SIZE_RANGE, State, size_parameter
+from .state import CUSTOM, SIZE_RANGE, State, listed_shapes, size_parameter
 
 __all__ = ["load_bokeh", "new_figure", "bokeh_widget", "PALETTE", "Status", "SetupControls",
-           "download_link", "section_title", "SAFETY_NOTE"]
+           "download_link", "section_title", "SAFETY_NOTE", "Worker", "error_text"]
 
 #: Okabe & Ito (2008), "Color Universal Design", colour-blind-safe qualitative palette.
 PALETTE = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#000000",
@@ -175,7 +175,7 @@ class SetupControls:
                                     description="charge [mC/m²]", **_slider())
         self.stern = w.FloatText(description="Stern cond. [nS]", **_text())
         # channel
-        self.shape = w.Dropdown(options=list(ek.channels.SHAPES), description="shape", **_text())
+        self.shape = w.Dropdown(options=listed_shapes(), description="shape", **_text())
         lo, hi = SIZE_RANGE
         self.size = w.FloatLogSlider(base=10, min=_log10(lo * 1e6), max=_log10(hi * 1e6),
                                      step=0.02, readout_format=".3g",
@@ -298,3 +298,49 @@ class SetupControls:
 def _log10(x):
     import math
     return math.log10(x)
+
+
+class Worker:
+    """Runs a computation now (1D shapes) or on a thread (2D sections, slow),
+    and hands only the newest result to the view."""
+
+    def __init__(self):
+        import threading
+        self._lock = threading.Lock()
+        self.generation = 0
+        self.thread = None
+
+    def submit(self, fn, done, fail, background=False):
+        import threading
+        with self._lock:
+            self.generation += 1
+            gen = self.generation
+
+        def run():
+            try:
+                out = fn()
+            except Exception as exc:   # reported in the status area, never raised
+                if gen == self.generation:
+                    fail(exc)
+                return
+            if gen == self.generation:
+                done(out)
+
+        if background:
+            self.thread = threading.Thread(target=run, name="ekexplore-compute", daemon=True)
+            self.thread.start()
+        else:
+            run()
+
+    def wait(self, timeout=300):
+        """Wait for a background computation (tests, scripts)."""
+        t = self.thread
+        if t is not None:
+            t.join(timeout)
+
+
+def error_text(exc):
+    """A readable one-line message for a failed computation."""
+    if isinstance(exc, (ValueError, ArithmeticError)):
+        return str(exc)
+    return f"could not compute ({type(exc).__name__}): {exc}"

@@ -30,6 +30,74 @@ def text(x):
 
 
 @dataclass
+class Curves:
+    """Fields along one line across the section, for the profile plots."""
+
+    x: np.ndarray                  # position along the line [m]
+    from_wall: bool                # x measured from the wall (2D cut) or from the centre (1D)
+    label: str                     # what x is
+    potential: np.ndarray          # [V]
+    concentrations: np.ndarray     # (n_ions, n) [mol/m^3]
+    ion_names: tuple
+    charge_density: np.ndarray     # [C/m^3]
+    velocity_pressure: np.ndarray  # [m/s]
+    velocity_electroosmotic: np.ndarray
+    current_migration: np.ndarray  # [A/m^2]
+    current_convective: np.ndarray
+    debye_length: float            # [m]
+    wall: float                    # x of the wall [m]
+
+
+def curves(prof):
+    """Profile curves of a 1D ``Profiles`` or, for a 2D section, along the cut
+    from the wall point nearest the centre to the centre."""
+    f = lambda a: np.asarray(a, dtype=float).reshape(-1)  # noqa: E731
+    if hasattr(prof, "wall_normal"):
+        cut = prof.wall_normal()
+        conc = np.stack([f(cut[f"c_{n}"]) for n in prof.ion_names])
+        return Curves(x=f(cut["distance"]), from_wall=True,
+                      label="distance from the nearest wall, along the cut to the centre",
+                      potential=f(cut["potential"]), concentrations=conc,
+                      ion_names=tuple(prof.ion_names), charge_density=f(cut["charge_density"]),
+                      velocity_pressure=f(cut["velocity_pressure"]),
+                      velocity_electroosmotic=f(cut["velocity_electroosmotic"]),
+                      current_migration=f(cut["current_migration"]),
+                      current_convective=f(cut["current_convective"]),
+                      debye_length=float(prof.debye_length), wall=0.0)
+    x = f(prof.coordinate)
+    name = "mid-plane" if prof.coordinate_name == "y" else "axis"
+    conc = np.asarray(prof.concentrations, dtype=float).reshape(len(prof.ion_names), -1)
+    return Curves(x=x, from_wall=False, label=f"distance from the {name} {prof.coordinate_name}",
+                  potential=f(prof.potential), concentrations=conc,
+                  ion_names=tuple(prof.ion_names), charge_density=f(prof.charge_density),
+                  velocity_pressure=f(prof.velocity_pressure),
+                  velocity_electroosmotic=f(prof.velocity_electroosmotic),
+                  current_migration=f(prof.current_migration),
+                  current_convective=f(prof.current_convective),
+                  debye_length=scalar(prof.debye_length), wall=float(np.max(x)))
+
+
+def field_images(prof, n=140):
+    """Images of a 2D section's fields on a regular grid, and two cuts."""
+    if not hasattr(prof, "on_grid"):
+        return None
+    W = float(np.ptp(prof.x))
+    H = float(np.ptp(prof.y))
+    nx = n if W >= H else max(24, int(round(n * W / H)))
+    ny = n if H > W else max(24, int(round(n * H / W)))
+    g = prof.on_grid(nx, ny)
+    normal = prof.wall_normal(n=50)
+    centre = prof.centreline()
+    return dict(x0=float(g["x"][0]), y0=float(g["y"][0]), width=W, height=H,
+                potential=np.asarray(g["potential"], dtype=float),
+                velocity_electroosmotic=np.asarray(g["velocity_electroosmotic"], dtype=float),
+                velocity_pressure=np.asarray(g["velocity_pressure"], dtype=float),
+                charge_density=np.asarray(g["charge_density"], dtype=float),
+                normal=(np.asarray(normal["x"], dtype=float), np.asarray(normal["y"], dtype=float)),
+                centre=dict((k, np.asarray(v, dtype=float)) for k, v in centre.items()))
+
+
+@dataclass
 class Explored:
     """Everything the explorer shows for one state."""
 
@@ -43,6 +111,8 @@ class Explored:
     model: str
     verdict: str
     derived: list = field(default_factory=list)   # (name, value text, meaning)
+    curves: Curves | None = None
+    images: dict | None = None
 
 
 def explore(state):
@@ -56,7 +126,8 @@ def explore(state):
     cond = {k: scalar(v) for k, v in r.conductances(state.length).items()}
     return Explored(result=r, thin=thin, profiles=prof, pressure_gradient=G, field=E,
                     matrix=matrix, conductances=cond, model=text(r.model),
-                    verdict=verdict(r, thin, state), derived=derived(r, state))
+                    verdict=verdict(r, thin, state), derived=derived(r, state),
+                    curves=curves(prof), images=field_images(prof))
 
 
 def eo_overestimate(r, thin):
@@ -177,9 +248,22 @@ def half_size_ratio(state):
     return scalar(ch.half_size) / state.size
 
 
+def map_proxy(state):
+    """The state whose channel the maps solve, and the factor from the state's
+    size to that channel's size. A 2D section is mapped as the slit of the same
+    half-size: one 2D solve per pixel would take minutes."""
+    if not state.is_section:
+        return state, 1.0
+    ratio = half_size_ratio(state)
+    proxy = state.copy()
+    proxy.shape = "Slit"
+    return proxy, 2.0 * ratio
+
+
 def _layers(state, concentration, size, zeta=None):
     """Every colour layer at flat arrays of points: one batch solve per model."""
-    kw = dict(concentration=concentration, size=size)
+    state, factor = map_proxy(state)
+    kw = dict(concentration=concentration, size=size * factor)
     if zeta is not None:
         kw["zeta"] = zeta
     pb = state.solve("pb", **kw)

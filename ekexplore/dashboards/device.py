@@ -8,7 +8,8 @@ import ipywidgets as w
 import numpy as np
 
 from . import compute
-from .common import CSS, PALETTE, SAFETY_NOTE, SetupControls, Status, bokeh_widget, new_figure
+from .common import (CSS, PALETTE, SAFETY_NOTE, SetupControls, Status, Worker, bokeh_widget,
+                     error_text, new_figure)
 from .state import State
 from .units import eng, num
 
@@ -91,8 +92,9 @@ class DeviceView:
         fe.legend.label_text_font_size = "10px"
         fe.legend.background_fill_alpha = 0.7
         self.figures = {"pump": fp, "generator": fg, "efficiency": fe}
+        self.worker = Worker()
         self.state.observe(self._changed)
-        self.update()
+        self.update(sync=True)
         self.plots = bokeh_widget(row(fp, column(fg, fe)))
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
                         "<span class='ekx-sub'>&nbsp; flow, current and power of one channel; "
@@ -104,29 +106,33 @@ class DeviceView:
     def _changed(self, change):
         self.update()
 
-    def update(self):
+    def update(self, sync=False):
         sig = tuple(sorted((k, repr(v)) for k, v in self.state.trait_values().items()))
         if sig == self._sig:
             return
         self._sig = sig
-        self.status.busy("computing…")
+        snap = self.state.copy()
+        self.status.busy("computing a 2D section (can take a while)…" if snap.is_section
+                         else "computing…")
+        self.worker.submit(lambda: (snap, compute.device(snap)), self._done, self._fail,
+                           background=snap.is_section and not sync)
+
+    def _fail(self, exc):
+        self.error = error_text(exc)
+        self.status.error(self.error + " — the plots show the last valid input.")
+
+    def _done(self, out):
+        snap, d = out
         try:
-            d = compute.device(self.state)
-        except (ValueError, ArithmeticError) as exc:
-            self.error = str(exc)
-            self.status.error(self.error + " — the plots show the last valid input.")
-            return
+            self._show(d, snap)
         except Exception as exc:  # never a traceback on the dashboard
-            self.error = f"{type(exc).__name__}: {exc}"
-            self.status.error("could not compute: " + self.error)
+            self._fail(exc)
             return
         self.error = None
         self.last = d
-        self._show(d)
         self.status.ok("up to date")
 
-    def _show(self, d):
-        st = self.state
+    def _show(self, d, st):
         a = d.conductances["flow_per_pressure"]
         b = d.conductances["flow_per_volt"]
         # pump curve: Q = b V - a p_back, from zero to the stall pressure (and the

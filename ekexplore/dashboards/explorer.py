@@ -8,8 +8,8 @@ import ipywidgets as w
 import numpy as np
 
 from . import compute
-from .common import (CSS, PALETTE, SetupControls, Status, bokeh_widget, download_link,
-                     new_figure)
+from .common import (CSS, PALETTE, SetupControls, Status, Worker, bokeh_widget, download_link,
+                     error_text, new_figure)
 from .state import State
 from .units import eng, length_unit, num, prefix_scale
 
@@ -133,12 +133,12 @@ class ExplorerView:
         self.note = w.HTML()
         self._grid = gridplot([[f_phi, f_c, f_rho], [f_u, f_j, None]],
                               toolbar_location="right", merge_tools=True)
-        self.field_box = w.VBox([w.HTML("<div class='ekx-small'>This shape is 1D: its "
-                                        "fields across the section are on the profiles "
-                                        "tab.</div>")])
-
+        self.field_note = w.HTML(self.NOTE_1D)
+        self.field_box = w.VBox([self.field_note])
+        self._build_field_figures()
+        self.worker = Worker()
         self.state.observe(self._changed)
-        self.update()   # fill the sources before BokehJS first renders them
+        self.update(sync=True)   # fill the sources before BokehJS first renders them
         self.plots = bokeh_widget(self._grid)
         self.tabs = w.Tab(children=[w.VBox([self.note, self.plots]), self.field_box,
                                     self.derived,
@@ -160,31 +160,41 @@ class ExplorerView:
     def _toggle_code(self, change):
         self.code_box.layout.display = None if change["new"] else "none"
 
-    def update(self):
-        """Recompute from the state; on bad input show the message, keep the plots."""
+    NOTE_1D = ("<div class='ekx-small'>This shape is 1D (uniform along its width or "
+               "around its axis): its fields across the section are on the Profiles tab.</div>")
+
+    def update(self, sync=False):
+        """Recompute from the state; on bad input show the message, keep the plots.
+
+        2D sections run on a background thread with a busy message; call
+        ``worker.wait()`` to wait for them.
+        """
         sig = tuple(sorted((k, repr(v)) for k, v in self.state.trait_values().items()))
         if sig == self._signature:
             return
         self._signature = sig
-        self.status.busy("computing…")
+        snap = self.state.copy()
+        slow = snap.is_section
+        self.status.busy("computing a 2D section (can take a while)…" if slow else "computing…")
+        self.worker.submit(lambda: (snap, compute.explore(snap)), self._done, self._fail,
+                           background=slow and not sync)
+
+    def _fail(self, exc):
+        self.error = error_text(exc)
+        self.status.error(self.error + " — the plots show the last valid input.")
+
+    def _done(self, out):
+        snap, ex = out
         try:
-            ex = compute.explore(self.state)
-        except (ValueError, ArithmeticError) as exc:
-            self.error = str(exc)
-            self.status.error(self.error + " — the plots show the last valid input.")
-            return
-        except Exception as exc:  # never show a traceback on a dashboard
-            self.error = f"{type(exc).__name__}: {exc}"
-            self.status.error("could not compute: " + self.error)
+            self._show(ex, snap)
+        except Exception as exc:  # never a traceback on the dashboard
+            self._fail(exc)
             return
         self.error = None
         self.last = ex
-        self._show(ex)
         self.status.ok(f"up to date — model {ex.model}")
 
-    def _show(self, ex):
-        st = self.state
-        r = ex.result
+    def _show(self, ex, st):
         self.verdict.value = f"<div class='ekx-verdict'>{html.escape(ex.verdict)}</div>"
         self.matrix.value = matrix_html(ex, st)
         self.derived.value = derived_html(ex.derived)
@@ -193,48 +203,131 @@ class ExplorerView:
                                               compute.profiles_csv(ex), "profiles (CSV)")
                                 + download_link("ekexplore_matrix.csv",
                                                 compute.matrix_csv(ex, st), "matrix (CSV)"))
-        p = ex.profiles
-        x_si = np.asarray(p.coordinate, dtype=float).reshape(-1)
-        half = float(np.max(x_si))
-        k, unit = length_unit(half)
-        x = x_si * k
-        name = "y" if p.coordinate_name == "y" else "r"
-        xlabel = (f"distance from the mid-plane {name} [{unit}]" if name == "y"
-                  else f"distance from the axis {name} [{unit}]")
+        c = ex.curves
+        k, unit = length_unit(max(float(np.max(np.abs(c.x))), c.debye_length))
+        x = c.x * k
+        xlabel = f"{c.label} [{unit}]"
         for f in self.figures:
             f.xaxis.axis_label = xlabel
-        lam = compute.scalar(p.debye_length)
-        loc = (half - lam) * k
+        lam = c.debye_length
+        loc = (c.wall + lam) * k if c.from_wall else (c.wall - lam) * k
+        inside = 0 <= loc <= float(np.max(x))
         for span, lab in zip(self.debye_spans, self.debye_labels):
             span.location = loc
-            span.visible = loc > 0
+            span.visible = inside
             lab.x = loc
-            lab.visible = loc > 0
+            lab.visible = inside
         S = self.sources
-        S["potential"].data = dict(x=x, y=np.asarray(p.potential).reshape(-1) * 1e3)
-        conc = np.asarray(p.concentrations, dtype=float).reshape(len(p.ion_names), -1)
+        S["potential"].data = dict(x=x, y=c.potential * 1e3)
         S["concentrations"].data = dict(
-            xs=[x] * len(p.ion_names), ys=[np.maximum(c, 1e-30) for c in conc],
-            color=[PALETTE[i % len(PALETTE)] for i in range(len(p.ion_names))],
-            name=list(p.ion_names))
-        rho = np.asarray(p.charge_density, dtype=float).reshape(-1)
-        f, pre = prefix_scale(np.max(np.abs(rho)))
+            xs=[x] * len(c.ion_names), ys=[np.maximum(ci, 1e-30) for ci in c.concentrations],
+            color=[PALETTE[i % len(PALETTE)] for i in range(len(c.ion_names))],
+            name=list(c.ion_names))
+        f, pre = prefix_scale(np.nanmax(np.abs(c.charge_density)))
         self.figures[2].yaxis.axis_label = f"charge density [{pre}C/m³]"
-        S["charge"].data = dict(x=x, y=rho * f)
-        up = np.asarray(p.velocity_pressure, dtype=float).reshape(-1)
-        ue = np.asarray(p.velocity_electroosmotic, dtype=float).reshape(-1)
-        f, pre = prefix_scale(max(np.max(np.abs(up)), np.max(np.abs(ue))))
+        S["charge"].data = dict(x=x, y=c.charge_density * f)
+        up, ue = c.velocity_pressure, c.velocity_electroosmotic
+        f, pre = prefix_scale(max(np.nanmax(np.abs(up)), np.nanmax(np.abs(ue))))
         self.figures[3].yaxis.axis_label = f"velocity [{pre}m/s]"
         S["velocity"].data = dict(x=x, pressure=up * f, eo=ue * f)
-        jm = np.asarray(p.current_migration, dtype=float).reshape(-1)
-        jc = np.asarray(p.current_convective, dtype=float).reshape(-1)
-        f, pre = prefix_scale(max(np.max(np.abs(jm)), np.max(np.abs(jc))))
+        jm, jc = c.current_migration, c.current_convective
+        f, pre = prefix_scale(max(np.nanmax(np.abs(jm)), np.nanmax(np.abs(jc))))
         self.figures[4].yaxis.axis_label = f"current density [{pre}A/m²]"
         S["current"].data = dict(x=x, migration=jm * f, convective=jc * f)
-        where = ("λ_D = " + eng(lam, "m") + " from the wall (dotted line)" if loc > 0 else
-                 "λ_D = " + eng(lam, "m") + " is larger than the half-size: no line")
+        where = ("λ_D = " + eng(lam, "m") + " from the wall (dotted line)" if inside else
+                 "λ_D = " + eng(lam, "m") + " is larger than the distance to the centre")
+        side = "Wall at the left edge" if c.from_wall else "Wall at the right edge"
         self.note.value = (
-            "<div class='ekx-small'>Wall at the right edge. Driving: "
+            f"<div class='ekx-small'>{side}. Driving: "
             f"Δp = {num(st.pressure_drop / 1e3)} kPa and ΔV = {num(st.voltage)} V over "
             f"L = {eng(st.length, 'm')} (−dp/dx = {eng(ex.pressure_gradient, 'Pa/m')}, "
             f"E = {eng(ex.field, 'V/m')}). {where}.</div>")
+        self._show_field(ex.images)
+
+    # ---- 2D fields ----------------------------------------------------------------
+    FIELDS = (("potential", "potential", "mV", 1e3),
+              ("velocity_electroosmotic", "electroosmotic velocity", "m/s", None),
+              ("velocity_pressure", "pressure-driven velocity", "m/s", None))
+
+    def _build_field_figures(self):
+        from bokeh.models import ColorBar, ColumnDataSource, LinearColorMapper
+        from bokeh.palettes import Cividis256
+        self.field_sources = {}
+        self.field_mappers = {}
+        self.field_bars = {}
+        self.field_figures = []
+        self.cut_source = ColumnDataSource(dict(x=[], y=[]))
+        self.cut_source.name = "ekx-field-cut-line"
+        for key, title, unit, _ in self.FIELDS:
+            src = ColumnDataSource(dict(image=[], x=[], y=[], dw=[], dh=[]))
+            src.name = f"ekx-field-{key}"
+            mapper = LinearColorMapper(palette=Cividis256, nan_color=(0, 0, 0, 0))
+            fig = new_figure(300, 240, title, "x [µm]", "y [µm]", match_aspect=True)
+            fig.image(image="image", x="x", y="y", dw="dw", dh="dh", source=src,
+                      color_mapper=mapper)
+            fig.line("x", "y", source=self.cut_source, color="#D55E00", line_width=2,
+                     line_dash="dashed")
+            bar = ColorBar(color_mapper=mapper, width=10, title=unit,
+                           major_label_text_font_size="9px", title_text_font_size="10px")
+            fig.add_layout(bar, "right")
+            fig.grid.visible = False
+            self.field_sources[key] = src
+            self.field_mappers[key] = mapper
+            self.field_bars[key] = bar
+            self.field_figures.append(fig)
+        self.centre_source = ColumnDataSource(dict(x=[], pressure=[], eo=[]))
+        self.centre_source.name = "ekx-field-centreline"
+        fc = new_figure(600, 200, "cut along the horizontal centreline", "x [µm]",
+                        "velocity [m/s]")
+        fc.line("x", "pressure", source=self.centre_source, color=PALETTE[0], line_width=2,
+                legend_label="pressure-driven")
+        fc.line("x", "eo", source=self.centre_source, color=PALETTE[1], line_width=2,
+                line_dash="dashed", legend_label="electroosmotic")
+        fc.legend.label_text_font_size = "10px"
+        fc.legend.location = "bottom_center"
+        fc.legend.background_fill_alpha = 0.6
+        self.centre_figure = fc
+        self.field_widget = None
+
+    def _show_field(self, img):
+        from bokeh.layouts import column, row
+        if img is None:
+            self.field_box.children = [self.field_note]
+            self.field_note.value = self.NOTE_1D
+            return
+        k, unit = length_unit(max(img["width"], img["height"]))
+        for key, title, base, factor in self.FIELDS:
+            a = img[key]
+            fac, pre = (factor, "") if factor else prefix_scale(np.nanmax(np.abs(a)))
+            label = f"{pre}{base}" if factor is None else base
+            self.field_bars[key].title = label
+            finite = a[np.isfinite(a)]
+            m = self.field_mappers[key]
+            if finite.size:
+                m.low, m.high = float(np.min(finite) * fac), float(np.max(finite) * fac)
+                if m.low == m.high:
+                    m.high = m.low + 1e-12
+            self.field_sources[key].data = dict(image=[a * fac], x=[img["x0"] * k],
+                                                y=[img["y0"] * k], dw=[img["width"] * k],
+                                                dh=[img["height"] * k])
+        for fig in self.field_figures + [self.centre_figure]:
+            fig.xaxis.axis_label = f"x [{unit}]"
+        for fig in self.field_figures:
+            fig.yaxis.axis_label = f"y [{unit}]"
+        nx_, ny_ = img["normal"]
+        self.cut_source.data = dict(x=nx_ * k, y=ny_ * k)
+        c = img["centre"]
+        up, ue = c["velocity_pressure"], c["velocity_electroosmotic"]
+        f, pre = prefix_scale(max(np.nanmax(np.abs(up)), np.nanmax(np.abs(ue))))
+        self.centre_figure.yaxis.axis_label = f"velocity [{pre}m/s]"
+        self.centre_source.data = dict(x=c["x"] * k, pressure=up * f, eo=ue * f)
+        self.field_note.value = (
+            "<div class='ekx-small'>Fields over the cross-section (blank: outside the "
+            "channel). Dashed orange: the cut from the nearest wall to the centre shown on "
+            "the Profiles tab.</div>")
+        # a fresh widget each time, so the page gets the new data even if the tab
+        # has not been shown yet
+        if self.field_widget is not None:
+            self.field_widget.close()
+        self.field_widget = bokeh_widget(column(row(*self.field_figures), self.centre_figure))
+        self.field_box.children = [self.field_note, self.field_widget]

@@ -9,7 +9,7 @@ import ipywidgets as w
 import numpy as np
 
 from . import compute
-from .common import CSS, SetupControls, Status, bokeh_widget, new_figure
+from .common import CSS, SetupControls, Status, Worker, bokeh_widget, error_text, new_figure
 from .state import CONCENTRATION_RANGE, SIZE_RANGE, State
 from .units import eng, num
 
@@ -43,10 +43,14 @@ class RegimesView:
         self.readout.add_class("ekx-readout")
         self.last_size = None
         self.last_kz = None
+        self._key_a_done = self._key_b_done = None
         self.error = None
         self._sig = None
+        self.proxy_note = False
+        self.worker = Worker()
 
-        cols = ["left", "right", "bottom", "top", "x", "y", "value", "kappa_size"]
+        cols = ["left", "right", "bottom", "top", "x", "y", "value", "kappa_size", "x_text",
+                "y_text", "value_text"]
         self.sources = {
             "size": ColumnDataSource({c: [] for c in cols}),
             "kz": ColumnDataSource({c: [] for c in cols}),
@@ -96,10 +100,10 @@ class RegimesView:
             f.legend.label_text_font_size = "10px"
             f.legend.background_fill_alpha = 0.7
         fa.add_tools(HoverTool(renderers=[self.quads["size"]], tooltips=[
-            ("ionic strength", "@x{0.000a} mM"), ("size", "@y{0.00e0} m"),
-            ("κ·a", "@kappa_size{0.00a}"), ("value", "@value{0.000a}")]))
+            ("ionic strength", "@x_text"), ("size", "@y_text"),
+            ("κ·a", "@kappa_size{0.00}"), ("value", "@value_text")]))
         fb.add_tools(HoverTool(renderers=[self.quads["kz"]], tooltips=[
-            ("κ·a", "@x{0.00a}"), ("e|ζ|/kT", "@y{0.00}"), ("value", "@value{0.000a}")]))
+            ("κ·a", "@x_text"), ("e|ζ|/kT", "@y_text"), ("value", "@value_text")]))
         self.colorbar = ColorBar(color_mapper=self.mappers["linear"], width=12,
                                  major_label_text_font_size="10px", title_text_font_size="10px")
         fb.add_layout(self.colorbar, "right")
@@ -109,7 +113,7 @@ class RegimesView:
 
         self.layer.observe(lambda ch: self._recolour(), "value")
         self.state.observe(self._changed)
-        self.update()
+        self.update(sync=True)
         self.plots = bokeh_widget(row(fa, fb))
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
                         "<span class='ekx-sub'>&nbsp; tap a map to move the operating point; "
@@ -151,58 +155,72 @@ class RegimesView:
             self.state.size = size
             self.status.ok("constant-charge wall: the tap set the size only")
 
-    def update(self):
+    def update(self, sync=False):
         st = self.state
         sig = tuple(sorted((k, repr(v)) for k, v in st.trait_values().items()
                            if k not in ("length", "voltage", "pressure_drop")))
         if sig == self._sig:
             return
-        self.status.busy("computing the maps…")
-        try:
-            ex = compute.explore(st)
-            if self.last_size is None or getattr(self, "_sig_a", None) != self._key_a():
-                self.last_size = compute.map_size(st, self.n)
-                self._sig_a = self._key_a()
-            else:
-                factor = st.ionic_strength_factor()
-                self.last_size["point"] = (st.concentration * factor, st.size)
-            if self.last_kz is None or getattr(self, "_sig_b", None) != self._key_b():
-                self.last_kz = compute.map_kappa_zeta(st, self.n)
-                self._sig_b = self._key_b()
-            else:
-                VT = self.last_kz["thermal_voltage"]
-                self.last_kz["point"] = (compute.scalar(ex.result.kappa_size),
-                                         abs(compute.scalar(ex.result.wall_potential)) / VT)
-        except (ValueError, ArithmeticError) as exc:
-            self.error = str(exc)
-            self.status.error(self.error + " — the maps show the last valid input.")
-            return
-        except Exception as exc:  # never a traceback on the dashboard
-            self.error = f"{type(exc).__name__}: {exc}"
-            self.status.error("could not compute: " + self.error)
-            return
         self._sig = sig
+        snap = st.copy()
+        key_a, key_b = self._key_a(snap), self._key_b(snap)
+        need_a = self.last_size is None or key_a != self._key_a_done
+        need_b = self.last_kz is None or key_b != self._key_b_done
+        n = self.n
+
+        def work():
+            ex = compute.explore(snap)
+            a = compute.map_size(snap, n) if need_a else None
+            b = compute.map_kappa_zeta(snap, n) if need_b else None
+            return snap, ex, a, b, key_a, key_b
+
+        self.status.busy("computing the maps…")
+        self.worker.submit(work, self._done, self._fail,
+                           background=snap.is_section and not sync)
+
+    def _fail(self, exc):
+        self.error = error_text(exc)
+        self.status.error(self.error + " — the maps show the last valid input.")
+
+    def _done(self, out):
+        snap, ex, a, b, key_a, key_b = out
+        if a is not None:
+            self.last_size, self._key_a_done = a, key_a
+        else:
+            self.last_size["point"] = (snap.concentration * snap.ionic_strength_factor(),
+                                       snap.size)
+        if b is not None:
+            self.last_kz, self._key_b_done = b, key_b
+        else:
+            VT = self.last_kz["thermal_voltage"]
+            self.last_kz["point"] = (compute.scalar(ex.result.kappa_size),
+                                     abs(compute.scalar(ex.result.wall_potential)) / VT)
         self.error = None
         self.explored = ex
-        self._show_points()
-        self._recolour()
+        self.proxy_note = snap.is_section
+        try:
+            self._show_points()
+            self._recolour()
+        except Exception as exc:  # never a traceback on the dashboard
+            self._fail(exc)
+            return
         self.status.ok("up to date")
 
-    def _key_a(self):
+    @staticmethod
+    def _key_a(st):
         """Inputs the size map depends on (not the concentration or the size)."""
-        st = self.state
         params = {k: v for k, v in st.shape_params.items() if k != st.size_name}
         return (st.salt, st.valence, st.temperature, st.wall_mode, st.zeta, st.charge_density,
                 st.stern_conductance, st.shape, repr(sorted(params.items())))
 
-    def _key_b(self):
+    @staticmethod
+    def _key_b(st):
         """Inputs the kappa-zeta map depends on (not the size or zeta)."""
-        st = self.state
         params = {k: v for k, v in st.shape_params.items() if k != st.size_name}
         charge = (st.charge_density, st.size) if st.wall_mode == "charge" else ()
         return (st.salt, st.valence, st.concentration, st.temperature, st.wall_mode, charge,
                 st.stern_conductance, st.shape, repr(sorted(params.items())),
-                np.sign(st.zeta))
+                float(np.sign(st.zeta)))
 
     def _show_points(self):
         a, b = self.last_size, self.last_kz
@@ -238,9 +256,17 @@ class RegimesView:
             if m is None:
                 continue
             c = m["cells"]
+            if name == "size":
+                xt = [f"{num(v)} mM" for v in c["x"]]
+                yt = [eng(v, "m") for v in c["y"]]
+            else:
+                xt = [num(v) for v in c["x"]]
+                yt = [num(v) for v in c["y"]]
             self.sources[name].data = dict(left=c["left"], right=c["right"],
                                            bottom=c["bottom"], top=c["top"], x=c["x"], y=c["y"],
-                                           value=c[key], kappa_size=c["kappa_size"])
+                                           value=c[key], kappa_size=c["kappa_size"],
+                                           x_text=xt, y_text=yt,
+                                           value_text=[num(v) for v in c[key]])
         self._show_readout(key, title)
 
     def _show_readout(self, key, title):
@@ -261,7 +287,10 @@ class RegimesView:
             f"Maps: one batched solve per model (pb reference, thin, dh) on "
             f"{a['n_valid']} of {a['n_cells']} cells (left) and {b['n_valid']} of "
             f"{b['n_cells']} (right); "
-            "errors are of the electroosmotic coefficient L12.</div>")
+            "errors are of the electroosmotic coefficient L12."
+            + (" <b>2D section</b>: the maps show the slit of the same half-size (one 2D "
+               "solve per cell would take minutes); the readout above is the real section."
+               if self.proxy_note else "") + "</div>")
 
     @staticmethod
     def value_at(m, point, key):

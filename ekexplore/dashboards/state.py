@@ -15,7 +15,13 @@ import traitlets
 
 import ekexplore as ek
 
-__all__ = ["State", "CUSTOM", "SIZE_RANGE", "CONCENTRATION_RANGE"]
+try:  # the 2D sections register themselves in ek.channels.SHAPES on import
+    import ekexplore.sections  # noqa: F401
+except ImportError:  # pragma: no cover - a core without 2D sections
+    pass
+
+__all__ = ["State", "CUSTOM", "SIZE_RANGE", "CONCENTRATION_RANGE", "SECTION_ACCURACY",
+           "listed_shapes"]
 
 #: Name of the custom symmetric electrolyte in the preset list.
 CUSTOM = "custom z:z"
@@ -23,6 +29,17 @@ CUSTOM = "custom z:z"
 SIZE_RANGE = (5e-9, 1e-3)
 #: Range of the concentration slider [mol/m^3] (1 uM to 1 M).
 CONCENTRATION_RANGE = (1e-3, 1e3)
+#: Target accuracy of 2D-section solves in the dashboards [-] (interactive;
+#: the 1D shapes use solve's default).
+SECTION_ACCURACY = 1e-3
+
+
+def listed_shapes():
+    """Registered shapes the dashboards can present: every parameter has a
+    ParameterInfo (a shape given by free-form data, such as a vertex list,
+    is left to the Python API)."""
+    return [name for name, cls in ek.channels.SHAPES.items()
+            if cls.parameters and all(p in cls.parameter_info for p in cls.parameters)]
 
 
 def shape_defaults(shape):
@@ -127,6 +144,22 @@ class State(traitlets.HasTraits):
             params[self.size_name] = size
         return ek.channels.SHAPES[self.shape](**params)
 
+    def copy(self):
+        """An independent snapshot (for a computation running on a thread)."""
+        values = self.trait_values()
+        params = values.pop("shape_params")
+        return State(shape_params=params, **values)
+
+    @property
+    def is_section(self):
+        """True for 2D cross-sections (slow: computed in the background)."""
+        cls = ek.channels.SHAPES.get(self.shape)
+        return cls is not None and cls.kind == "section"
+
+    def solve_options(self):
+        """Extra keyword arguments of ek.solve for this shape."""
+        return {"accuracy": SECTION_ACCURACY} if self.is_section else {}
+
     def check_model(self, model=None):
         model = self.model if model is None else model
         if model not in self.MODELS:
@@ -139,7 +172,7 @@ class State(traitlets.HasTraits):
         return ek.solve(self.channel(overrides.get("size")),
                         self.electrolyte(overrides.get("concentration")),
                         self.wall(overrides.get("zeta")),
-                        model=self.check_model(model))
+                        model=self.check_model(model), **self.solve_options())
 
     def ionic_strength_factor(self):
         """Ionic strength per unit salt concentration [-] of the chosen electrolyte."""
@@ -165,13 +198,14 @@ class State(traitlets.HasTraits):
             ch = f"ek.{self.shape}({args})"
         else:
             ch = f"ek.channels.SHAPES[{self.shape!r}]({args})"
+        acc = "".join(f", {k}={v!r}" for k, v in self.solve_options().items())
         return "\n".join([
             "import ekexplore as ek",
             "",
             f"electrolyte = {el}",
             f"wall = {wall}",
             f"channel = {ch}",
-            f"result = ek.solve(channel, electrolyte, wall, model={self.model!r})",
+            f"result = ek.solve(channel, electrolyte, wall, model={self.model!r}{acc})",
             "print(result.matrix)  # [<u>, <j>] = matrix @ [-dp/dx, E], SI per unit area",
             f"print(result.conductances(length={self.length!r}))  # whole channel, SI",
         ])
