@@ -24,7 +24,7 @@ import numpy as np
 from scipy.linalg import lapack
 
 __all__ = ["Grid", "make_grid", "solve_pb", "ConvergenceError", "donnan_potential",
-           "flat_layer_integrals", "PB_PHI_MAX"]
+           "PB_PHI_MAX"]
 
 #: Largest scaled wall potential |z e zeta / kT| the nonlinear solver accepts.
 PB_PHI_MAX = 40.0
@@ -270,37 +270,3 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-6, max_iter=200)
     raise ConvergenceError(
         f"Poisson-Boltzmann solver did not converge in {max_iter} Newton steps for "
         f"{active.size} of {B} points (e.g. point {int(active[0])})")
-
-
-def flat_layer_integrals(z, c, phi_w, nodes=96):
-    """Per-ion integrals over an isolated flat diffuse layer, in X = kappa x.
-
-    Returns (I_mig, I_conv), each (k, ...):
-    I_mig = int_0^inf (e^{-z_i phi} - 1) dX and
-    I_conv = int_0^inf (e^{-z_i phi} - 1)(phi - phi_w) dX, on the
-    Gouy-Chapman profile of any mixture, by Gauss-Legendre in the potential
-    with dX = dphi / |dphi/dX|, (dphi/dX)^2 = 2 sum x_j (e^{-z_j phi} - 1)/sum z_j^2 x_j.
-
-    ``z`` (k,), ``c`` (k, ...) concentrations in any unit, ``phi_w`` (...).
-    """
-    gx, gw = np.polynomial.legendre.leggauss(nodes)
-    gx, gw = 0.5 * (gx + 1.0), 0.5 * gw
-    phi_w = np.asarray(phi_w, dtype=float)
-    shape = np.broadcast_shapes(phi_w.shape, np.shape(c)[1:])
-    zb = np.asarray(z, dtype=float).reshape((-1,) + (1,) * len(shape))
-    c = np.broadcast_to(c, (len(zb),) + shape)
-    phi_w = np.broadcast_to(phi_w, shape)
-    u = gx.reshape((-1, 1) + (1,) * len(shape))
-    wq = gw.reshape((-1, 1) + (1,) * len(shape))
-    phi = u * phi_w                                           # (q, 1, ...)
-    ez = np.expm1(-zb * phi)                                  # (q, k, ...)
-    zz = np.sum(zb**2 * c, axis=0)
-    g = 2.0 * np.sum(c * ez, axis=1, keepdims=True) / zz      # (q, 1, ...)
-    small = np.abs(phi) < 1e-6
-    slope = np.where(small, 1.0, np.sqrt(np.maximum(g, 0.0)))
-    ratio = np.where(small, -zb * np.sign(phi_w), ez / slope)
-    jac = np.abs(phi_w)
-    I_mig = np.sum(wq * ratio, axis=0) * jac
-    I_conv = np.sum(wq * ratio * (phi - phi_w), axis=0) * jac
-    zero = phi_w == 0
-    return np.where(zero, 0.0, I_mig), np.where(zero, 0.0, I_conv)

@@ -64,7 +64,7 @@ class Ion:
                     unit="m^2/s")
 
     def diffusivity_at(self, temperature):
-        """Diffusivity [m²/s] at ``temperature`` [K] by Stokes–Einstein scaling.
+        r"""Diffusivity [m²/s] at ``temperature`` [K] by Stokes–Einstein scaling.
 
         :math:`D(T) = D_{25}\,(T/298.15)\,\eta(298.15)/\eta(T)`, with the
         IAPWS 2008 viscosity; temperature 273.15-373.15 K.

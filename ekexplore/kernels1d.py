@@ -18,8 +18,8 @@ import numpy as np
 from scipy import special
 
 from ._state import F, R as R_GAS
-from .doublelayer import (make_grid, solve_pb, flat_layer_integrals, donnan_potential,
-                          PB_PHI_MAX)
+from .doublelayer import make_grid, solve_pb, donnan_potential, PB_PHI_MAX
+from .wall import flat_layer_integrals
 from .profiles import Profiles
 
 __all__ = ["transport_1d", "MODELS", "wall_potential_isolated", "dh_wall_potential"]
@@ -175,7 +175,7 @@ def _thin(b, m):
     # tau_w/G = A/P, and int rho y dy = -eps zeta for any Gouy-Chapman layer
     first_moment_s = -phi_w
     L21s = first_moment_s * 1.0
-    I_mig, I_conv = flat_layer_integrals(b["z"], b["c"], phi_w)
+    I_mig, I_conv = flat_layer_integrals(b["z"][:, None], b["c"], phi_w)
     per_area = (m + 1) / b["R"] / b["kappa"]                     # (P/A) / kappa
     bulk = b["lam"] * b["c"]
     mig_ion = bulk + per_area * bulk * I_mig

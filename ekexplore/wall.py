@@ -11,7 +11,7 @@ from scipy import constants
 
 from ._validate import check_nonnegative, check_range
 
-__all__ = ["Wall", "ZETA_MAX", "grahame_charge", "grahame_potential",
+__all__ = ["Wall", "ZETA_MAX", "grahame_charge", "grahame_potential", "flat_layer_integrals",
            "diffuse_layer_conductance", "bikerman_conductance"]
 
 F = constants.physical_constants["Faraday constant"][0]
@@ -254,19 +254,22 @@ def grahame_potential(electrolyte, charge_density):
     return phi * _thermal_voltage(T)
 
 
-def _flat_wall_integrals(electrolyte, zeta):
-    """Integrals over one flat diffuse layer, by Gauss-Legendre in the potential.
+def flat_layer_integrals(z, c, phi_w):
+    """Per-ion integrals over an isolated flat diffuse layer, in X = kappa x.
 
-    Returns (I_mig, I_conv, kappa) with, per ion i (shape (n, ...)):
-      I_mig[i]  = int_0^inf (exp(-z_i phi) - 1) dx          [m]
-      I_conv[i] = int_0^inf (exp(-z_i phi) - 1)(phi - phi_w) dx  [m]
-    using dx = dphi / |dphi/dx| and (dphi/dX)^2 = 2 sum x_j(e^{-z_j phi}-1)/sum z_j^2 x_j.
+    Returns (I_mig, I_conv), each (n, ...):
+    ``I_mig[i] = int_0^inf (e^{-z_i phi} - 1) dX`` and
+    ``I_conv[i] = int_0^inf (e^{-z_i phi} - 1)(phi - phi_w) dX``, on the
+    Gouy-Chapman profile of any mixture, by Gauss-Legendre in the potential
+    with dX = dphi / |dphi/dX| and
+    (dphi/dX)^2 = 2 sum_j x_j (e^{-z_j phi} - 1) / sum_j z_j^2 x_j.
+
+    ``z`` (n, 1...) valences aligned with ``c`` (n, ...) bulk concentrations
+    in any unit, ``phi_w`` (...) scaled wall potential e zeta / kT. Array-level
+    core shared by :func:`diffuse_layer_conductance` and the thin-layer kernel.
     """
-    zeta = np.asarray(zeta, dtype=float)
-    z, c, T, eps = _bulk(electrolyte, zeta.ndim)
-    phi_w = zeta / _thermal_voltage(T)
-    kappa = 1.0 / electrolyte.debye_length
-    shape = np.broadcast_shapes(phi_w.shape, electrolyte.shape)
+    phi_w = np.asarray(phi_w, dtype=float)
+    shape = np.broadcast_shapes(phi_w.shape, np.shape(c)[1:])
     phi_w = np.broadcast_to(phi_w, shape)
     # nodes along (0, phi_w): phi = u * phi_w; extra leading axis for the nodes
     u = _GL_X.reshape((-1, 1) + (1,) * len(shape))
@@ -284,12 +287,19 @@ def _flat_wall_integrals(electrolyte, zeta):
     ratio = np.where(small, -z * np.sign(phi_w),
                      ez / np.where(small, 1.0, np.abs(phi)) / slope_rel)  # (q, n, ...)
     jac = np.abs(phi_w)  # dphi = phi_w du, integrate in |phi|
-    I_mig = np.sum(w * ratio, axis=0) * jac / kappa
-    I_conv = np.sum(w * ratio * (phi - phi_w), axis=0) * jac / kappa
+    I_mig = np.sum(w * ratio, axis=0) * jac
+    I_conv = np.sum(w * ratio * (phi - phi_w), axis=0) * jac
     zero = phi_w == 0
-    I_mig = np.where(zero, 0.0, I_mig)
-    I_conv = np.where(zero, 0.0, I_conv)
-    return I_mig, I_conv, kappa
+    return np.where(zero, 0.0, I_mig), np.where(zero, 0.0, I_conv)
+
+
+def _flat_wall_integrals(electrolyte, zeta):
+    """(I_mig, I_conv, kappa) of one flat wall in metres: see flat_layer_integrals."""
+    zeta = np.asarray(zeta, dtype=float)
+    z, c, T, eps = _bulk(electrolyte, zeta.ndim)
+    kappa = 1.0 / electrolyte.debye_length
+    I_mig, I_conv = flat_layer_integrals(z, c, zeta / _thermal_voltage(T))
+    return I_mig / kappa, I_conv / kappa, kappa
 
 
 def diffuse_layer_conductance(electrolyte, zeta):
