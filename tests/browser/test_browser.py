@@ -14,8 +14,11 @@ import re
 import statistics
 import time
 import urllib.request
+from pathlib import Path
 
 import pytest
+
+ARTIFACTS = Path(__file__).resolve().parents[2] / "test-artifacts"
 
 VIEWPORT = {"width": 1280, "height": 800}
 LOAD_TIMEOUT = 180_000     # ms: cold kernel start + notebook run on 2 busy cores
@@ -54,7 +57,6 @@ class Page:
                 "() => [...document.querySelectorAll('.ekx-status')]"
                 ".some(e => e.textContent.includes('up to date'))", timeout=LOAD_TIMEOUT)
         except Exception:
-            from .conftest import ARTIFACTS
             ARTIFACTS.mkdir(exist_ok=True)
             name = url.rsplit("/", 1)[-1].replace(".ipynb", "")
             self.page.screenshot(path=str(ARTIFACTS / f"load-failure-{name}.png"))
