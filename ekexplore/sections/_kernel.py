@@ -128,17 +128,39 @@ def flow_solution(mesh):
 def _two_levels(kind, dims, n, lam, gouy, kl2, w, z, condition, value, model, lam_c):
     """Solutions on the meshes with n and 2n cells and the estimated relative
     error of the finer one, (f - c)/3 (second order), largest over the
-    hydraulic, electro-osmotic, streaming and migration coefficients."""
+    electro-osmotic, streaming and migration coefficients. (The hydraulic
+    coefficient comes from meshes graded for the flow alone, see
+    :func:`_hydraulic`.)"""
     mc = build_mesh(kind, dims, n, lam, gouy)
     mf = build_mesh(kind, dims, 2 * n, lam, gouy)
     rc = scaled_solution(mc, kl2, w, z, condition, value, model)
     rf = scaled_solution(mf, kl2, w, z, condition, value, model,
                          guess=prolong(mc, mf, rc["phi"]))
-    keys = ("u_mean", "l12", "l21") if abs(rf["l12"]) > 1e-300 else ("u_mean",)
+    keys = ("l12", "l21") if abs(rf["l12"]) > 1e-300 else ()
     errs = [abs(rf[k] - rc[k]) / max(abs(rf[k]), 1e-300) for k in keys]
     mig_c, mig_f = lam_c @ rc["mean_c"], lam_c @ rf["mean_c"]
     errs.append(abs(mig_f - mig_c) / mig_f)
     return rc, rf, max(errs) / 3.0
+
+
+def _hydraulic(channel, values, kind, dims, L, n, accuracy, need_shear=True):
+    """<u>/(G/eta) [m^2], its estimated error and the scaled wall-shear integral,
+    from meshes graded for the flow alone (exact closed forms where they exist).
+    The flow resolution is refined once if the estimate misses ``accuracy``."""
+    exact = channel._exact_flow_mean_values(*values)
+    if exact is not None and not need_shear:
+        return exact, 0.0, None
+    for attempt in range(2):
+        fc = flow_solution(build_mesh(kind, dims, n))
+        ff = flow_solution(build_mesh(kind, dims, 2 * n))
+        err = abs(ff["u_mean"] - fc["u_mean"]) / 3.0 / ff["u_mean"]
+        if err <= accuracy or n >= _N_MAX:
+            break
+        n = min(_N_MAX, 8 * int(np.ceil(1.2 * n * np.sqrt(err / accuracy) / 8)))
+    shear = _rich(fc["shear"], ff["shear"])
+    if exact is not None:
+        return exact, 0.0, shear
+    return L**2 * _rich(fc["u_mean"], ff["u_mean"]), err, shear
 
 
 def _rich(c, f):
@@ -186,14 +208,15 @@ def _choose(channel, b, geo, model, cond, options):
         # Donnan-like estimate for overlapped layers: charge over the area's screening
         dh = sig * geo["perimeter"] * Lh / (geo["area"] * K**2)
         phi_est = np.where(np.abs(dh) > np.abs(iso), np.clip(dh, -40, 40), iso)
+    weights = b["c"] / np.sum(b["z"][:, None]**2 * b["c"], 0)
     chosen, est = choose_models(K, phi_est, b["z"], "section", options.get("tol", 0.01),
-                                condition=cond.wall_condition)
+                                condition=cond.wall_condition, weights=weights)
     return np.asarray(chosen), est
 
 
 def section_kernel(channel, cond, model, options):
     """Kernel for a 2D section: see ``ekexplore._state`` for the returned dict."""
-    from ..doublelayer import flat_layer_integrals
+    from ..wall import flat_layer_integrals
     from ..kernels1d import wall_potential_isolated
 
     accuracy = options.get("accuracy")
@@ -229,21 +252,13 @@ def section_kernel(channel, cond, model, options):
                 phi_w = float(wall_potential_isolated(z, (c / np.sum(z**2 * c))[:, None],
                                                       np.array([kappa * L]),
                                                       np.array([sig_s]))[0])
-            exact = channel._exact_flow_mean_values(*geo["values"][k])  # [m^2] or None
-            fc = flow_solution(build_mesh(kind, dims, n))
-            ff = flow_solution(build_mesh(kind, dims, 2 * n))
-            if exact is None:
-                u_mean = L**2 * _rich(fc["u_mean"], ff["u_mean"])
-                err = abs(ff["u_mean"] - fc["u_mean"]) / 3.0 / ff["u_mean"]
-            else:
-                u_mean = exact
-                err = 0.0
-            shear = _rich(fc["shear"], ff["shear"])
+            u_mean, err, shear = _hydraulic(channel, geo["values"][k], kind, dims, L, n,
+                                            accuracy)
             L12 = -eps * VT * phi_w / eta
             # streaming: wall shear per G times the first moment of the diffuse
             # charge (int rho y dy = -eps zeta), over eta and the area
             L21 = (-eps * VT * phi_w / eta) * shear
-            I_mig, I_conv = flat_layer_integrals(z, c[:, None], np.array([phi_w]))
+            I_mig, I_conv = flat_layer_integrals(z[:, None], c[:, None], np.array([phi_w]))
             I_mig, I_conv = I_mig[:, 0], I_conv[:, 0]
             pa = P_exact / A_exact / kappa
             bulk = lam_i * c
@@ -295,8 +310,10 @@ def section_kernel(channel, cond, model, options):
                     nk = min(_N_MAX, 8 * int(np.ceil(1.2 * nk * np.sqrt(err / accuracy) / 8)))
                 ex = {key: _rich(rc[key], rf[key]) for key in
                       ("u_mean", "l12", "l21", "mean_c", "conv", "phi_wall", "mean_g")}
-                exact = channel._exact_flow_mean_values(*geo["values"][k])
-                L11 = L**2 * ex["u_mean"] / eta
+                u_mean, err_flow, _ = _hydraulic(channel, geo["values"][k], kind, dims, L, n,
+                                                 accuracy, need_shear=False)
+                err = max(err, err_flow)
+                L11 = u_mean / eta
                 L12 = eps * VT / eta * ex["l12"]
                 L21 = eps * VT / eta * ex["l21"]
                 mig = lam_i * c * ex["mean_c"]
@@ -306,8 +323,6 @@ def section_kernel(channel, cond, model, options):
                 if sig_s is not None:
                     sigma = b["value"][k]
                 wall_phi = ex["phi_wall"]
-                if exact is not None:
-                    L11 = exact / eta
         out["L11"][k] = L11
         out["L12"][k] = L12
         out["L21"][k] = L21

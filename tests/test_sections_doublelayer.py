@@ -1,0 +1,195 @@
+"""Double layer and coupling matrix of the 2D sections (ekexplore.sections)."""
+import numpy as np
+import pytest
+from numpy.testing import assert_allclose
+
+import ekexplore as ek
+from ekexplore.sections import Ellipse, IsotropicEtch, Polygon, Rectangle, Trapezoid
+from ekexplore.sections._meshes import _cached, build_mesh
+from ekexplore.sections._kernel import scaled_solution
+from ekexplore.transport import _conditions
+
+KCL = ek.Electrolyte.salt("KCl", 1.0)          # Debye length 9.6 nm
+NACL10 = ek.Electrolyte.salt("NaCl", 10.0)     # Debye length 3.0 nm
+
+SHAPES = [Rectangle(200e-9, 100e-9),
+          Trapezoid.from_sidewall_angle(300e-9, 100e-9),
+          IsotropicEtch(100e-9, 80e-9),
+          IsotropicEtch(0.0, 80e-9),
+          Ellipse(200e-9, 120e-9),
+          Polygon([[0, 0], [200e-9, 0], [260e-9, 120e-9], [40e-9, 160e-9]])]
+IDS = ["rectangle", "trapezoid", "etch", "semicircle", "ellipse", "polygon"]
+
+
+@pytest.mark.parametrize("model", ["thin", "dh", "pb"])
+def test_circle_ellipse_reduces_to_tube(model):
+    # a circular Ellipse is a Tube; the 1D core is the reference. Extrapolated 2D
+    # values agree to about 1e-6; the tolerance is the default accuracy, 1e-3
+    for zeta in (-0.025, -0.1):
+        wall = ek.Wall(zeta=zeta)
+        a = ek.solve(Ellipse(100e-9, 100e-9), KCL, wall, model=model, accuracy=1e-3)
+        b = ek.solve(ek.Tube(100e-9), KCL, wall, model=model)
+        assert_allclose(a.matrix, b.matrix, rtol=1e-4)
+        assert a.error_estimate <= 1e-3
+
+
+@pytest.mark.parametrize("model", ["thin", "dh", "pb"])
+def test_wide_rectangle_reduces_to_slit(model):
+    # the side walls add corrections linear in h/w; extrapolating w/h = 25 and 50
+    # to infinite width must give the slit of the 1D core. The quadratic
+    # remainder is about (h/w)^2 ~ 1e-3 at most; we ask 1e-3.
+    h = 100e-9
+    wall = ek.Wall(zeta=-0.05)
+    r1 = ek.solve(Rectangle(25 * h, h), KCL, wall, model=model, accuracy=1e-3)
+    r2 = ek.solve(Rectangle(50 * h, h), KCL, wall, model=model, accuracy=1e-3)
+    s = ek.solve(ek.Slit(h), KCL, wall, model=model)
+    assert_allclose(2 * r2.matrix - r1.matrix, s.matrix, rtol=1e-3)
+    # and the finite rectangle itself is within its side-wall correction, ~4 h/w
+    assert_allclose(r2.matrix, s.matrix, rtol=4 * h / (50 * h))
+
+
+@pytest.mark.parametrize("ch", [Rectangle(200e-9, 100e-9), Rectangle(1e-6, 100e-9),
+                                Rectangle(100e-9, 300e-9)], ids=["2:1", "10:1", "1:3"])
+def test_rectangle_dh_series_matches_2d_dh(ch):
+    # the closed-form series and the 2D DH solver solve the same linear problem;
+    # they must agree within the 2D solver's own error estimate (<= 1e-3)
+    cond = _conditions(ch, KCL, ek.Wall(zeta=-0.03))
+    s = ch._kernel(cond, "dh", {"accuracy": 1e-3})
+    n = ch._kernel(cond, "dh", {"accuracy": 1e-3, "rectangle_series": False})
+    assert s["error"] < 1e-9 < n["error"] <= 1e-3
+    for k in ("L11", "L12", "L21", "L22_migration", "L22_convection"):
+        assert_allclose(s[k], n[k], rtol=max(float(n["error"]), 1e-12), err_msg=k)
+
+
+def test_rectangle_dh_series_reciprocity():
+    # L12 from <zeta - psi> and L21 from <rho u_p> are separate series; Onsager
+    # reciprocity holds to the series truncation (1e-10)
+    cond = _conditions(Rectangle([200e-9, 5e-6], 100e-9), KCL, ek.Wall(zeta=-0.03))
+    out = Rectangle([200e-9, 5e-6], 100e-9)._kernel(cond, "dh", {"accuracy": 1e-3})
+    assert_allclose(out["L21"], out["L12"], rtol=1e-9)
+
+
+@pytest.mark.parametrize("ch", SHAPES[1:], ids=IDS[1:])
+def test_pb_tends_to_dh_at_small_zeta(ch):
+    # the nonlinear terms are of relative order (e zeta / kT)^2 = 1.5e-5 at 0.1 mV
+    a = ek.solve(ch, KCL, ek.Wall(zeta=-1e-4), model="pb", accuracy=1e-3)
+    b = ek.solve(ch, KCL, ek.Wall(zeta=-1e-4), model="dh", accuracy=1e-3)
+    assert_allclose(a.matrix, b.matrix, rtol=1e-6)
+
+
+@pytest.mark.parametrize("ch", SHAPES, ids=IDS)
+@pytest.mark.parametrize("model", ["thin", "dh", "pb"])
+def test_reciprocity_and_positive_definite(ch, model):
+    # Onsager (1931): L21 = L12, each computed independently; discretely exact up
+    # to the Newton tolerance. The dissipation matrix is positive definite.
+    for wall in (ek.Wall(zeta=-0.08), ek.Wall(charge_density=-0.02), ek.Wall(zeta=0.03)):
+        r = ek.solve(ch, KCL, wall, model=model, accuracy=1e-3)
+        assert float(r.reciprocity_residual) <= 1e-8
+        eig = np.linalg.eigvalsh(0.5 * (r.matrix + r.matrix.T))
+        assert np.all(eig > 0)
+        # sign convention: negative wall potential -> positive off-diagonals
+        assert np.sign(r.electroosmotic) == -np.sign(r.wall_potential)
+        assert np.sign(r.streaming) == -np.sign(r.wall_potential)
+
+
+def test_constant_charge_matches_constant_potential_in_thin_limit():
+    # an isolated flat wall carrying the Grahame charge of zeta has potential zeta
+    # (Grahame 1947, Chem. Rev. 41, 441, doi:10.1021/cr60130a002). With
+    # kappa * half-size = 80 the coefficients agree to ~1/(kappa a)^2; we ask 1e-3.
+    # The wall potential is a perimeter mean: near each of the four corners (a few
+    # Debye lengths, 4 x 3 x 3 nm of the 3 um perimeter ~ 1 %) it is locally
+    # higher, so the mean is asked to 1e-2.
+    ch = Rectangle(1e-6, 0.5e-6)
+    zeta = -0.06
+    sigma = ek.grahame_charge(NACL10, zeta)
+    a = ek.solve(ch, NACL10, ek.Wall(zeta=zeta), model="pb", accuracy=1e-3)
+    b = ek.solve(ch, NACL10, ek.Wall(charge_density=sigma), model="pb", accuracy=1e-3)
+    assert_allclose(b.matrix, a.matrix, rtol=1e-3)
+    assert_allclose(b.wall_potential, zeta, rtol=1e-2)
+    assert_allclose(a.wall_charge, sigma, rtol=1e-2)
+    # and the thin model with that charge uses the Grahame potential itself
+    t = ek.solve(ch, NACL10, ek.Wall(charge_density=sigma), model="thin")
+    assert_allclose(t.wall_potential, zeta, rtol=1e-9)
+
+
+def test_thin_model_limits():
+    # Helmholtz-Smoluchowski: L12 = -eps zeta / eta (common practice), and the
+    # streaming coefficient from the wall shear equals it by the discrete force balance
+    ch = Trapezoid.from_sidewall_angle(3e-6, 1e-6)
+    r = ek.solve(ch, NACL10, ek.Wall(zeta=-0.05), model="thin")
+    hs = r.permittivity * 0.05 / r.viscosity
+    assert_allclose(r.electroosmotic, hs, rtol=1e-12)
+    assert_allclose(r.streaming, hs, rtol=1e-10)
+    # conduction = bulk + (P/A) x flat-wall diffuse-layer conductance (Bikerman 1940)
+    ks = ek.bikerman_conductance(NACL10, -0.05)
+    assert_allclose(r.conductive, r.bulk_conductivity + ch.perimeter / ch.area * ks, rtol=1e-9)
+    # the pb model at kappa * half-size ~ 130 is within a few 1/(kappa a) of it
+    p = ek.solve(ch, NACL10, ek.Wall(zeta=-0.05), model="pb", accuracy=1e-3)
+    assert_allclose(p.electroosmotic, hs, rtol=3.0 / float(p.kappa_size))
+
+
+def test_auto_records_the_model_per_point():
+    ch = Rectangle(2e-6, 1e-6)
+    e = ek.Electrolyte.salt("KCl", [0.01, 1.0, 100.0])
+    r = ek.solve(ch, e, ek.Wall(zeta=-0.05), model="auto", tol=0.01, accuracy=1e-3)
+    assert r.model.shape == (3,)
+    assert set(r.model.tolist()) <= {"thin", "dh", "pb"}
+    assert r.model[0] != "thin"        # kappa h/2 = 5: the layers are thick
+    assert r.model[-1] == "thin"       # kappa h/2 = 520: the slip model holds
+    assert np.all(r.error_estimate <= 0.01)
+
+
+def test_array_inputs_keep_their_shape():
+    ch = Ellipse(width=[100e-9, 200e-9], height=100e-9)
+    wall = ek.Wall(zeta=[[-0.02], [-0.06], [-0.1]])
+    r = ek.solve(ch, KCL, wall, model="pb", accuracy=1e-3)
+    assert r.matrix.shape == (3, 2, 2, 2)
+    assert r.model.shape == (3, 2)
+    # the (1, 0) point equals a scalar solve of the same point
+    s = ek.solve(Ellipse(100e-9, 100e-9), KCL, ek.Wall(zeta=-0.06), model="pb", accuracy=1e-3)
+    assert_allclose(r.matrix[1, 0], s.matrix, rtol=1e-13)
+
+
+def test_cache_reuses_meshes_and_results_are_pure():
+    ch = Trapezoid(250e-9, 150e-9, 100e-9)
+    wall = ek.Wall(zeta=-0.04)
+    first = ek.solve(ch, KCL, wall, model="pb", accuracy=1e-3)
+    hits = _cached.cache_info().hits
+    second = ek.solve(ch, KCL, wall, model="pb", accuracy=1e-3)
+    assert _cached.cache_info().hits > hits
+    assert_allclose(second.matrix, first.matrix, rtol=0, atol=0)
+    # a nearby ionic strength reuses the mesh (grading bucketed in log2 steps of 1/4)
+    misses = _cached.cache_info().misses
+    ek.solve(ch, ek.Electrolyte.salt("KCl", 1.02), wall, model="pb", accuracy=1e-3)
+    assert _cached.cache_info().misses == misses
+
+
+def test_ion_currents_sum_to_conduction():
+    ch = IsotropicEtch(100e-9, 80e-9)
+    e = ek.Electrolyte(["Na+", "Ca2+", "Cl-"], [1.0, 0.5, 2.0])
+    for model in ("thin", "dh", "pb"):
+        r = ek.solve(ch, e, ek.Wall(zeta=-0.05), model=model, accuracy=1e-3)
+        out = r._out
+        assert_allclose(out["ion_current"].sum(axis=0),
+                        out["L22_migration"] + out["L22_convection"], rtol=1e-12)
+        assert r.counterion_share > 0.5
+
+
+def test_pb_convergence_second_order():
+    # successive differences of <phi - phi_w> fall by 4 per halving (order >= 1.8)
+    w = np.array([0.5, -0.5])
+    z = np.array([1.0, -1.0])
+    vals = [scaled_solution(build_mesh("etch", (2.0, 2.0), n, 0.1), 100.0, w, z,
+                            "potential", -3.0, "pb")["l12"] for n in (16, 32, 64)]
+    order = np.log2(abs(vals[1] - vals[0]) / abs(vals[2] - vals[1]))
+    assert order > 1.8, order
+
+
+def test_reported_error_bounds_the_true_error():
+    # against the 1D core (tube, pb) the true error of the 2D result is below
+    # the reported estimate, at a coarse accuracy setting too
+    for acc in (1e-2, 1e-3):
+        a = ek.solve(Ellipse(60e-9, 60e-9), KCL, ek.Wall(zeta=-0.1), model="pb", accuracy=acc)
+        b = ek.solve(ek.Tube(60e-9), KCL, ek.Wall(zeta=-0.1), model="pb")
+        true = np.max(np.abs(a.matrix / b.matrix - 1))
+        assert true <= float(a.error_estimate) <= acc
