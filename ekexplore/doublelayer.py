@@ -209,38 +209,50 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-6, max_iter=200)
         return (0.5 * np.sum(c[idx] * dphi**2, axis=1) + np.sum(K2V[idx] * _g(z, w[:, idx], ph), axis=1)
                 - np.sum(bvec[idx] * ph, axis=1))
 
+    lim = 2.0 * PB_PHI_MAX / np.min(np.abs(z))
+    # parts of the Jacobian that do not change between Newton steps
+    dbase = np.zeros((B, n))
+    dbase[:, :-1] += c
+    dbase[:, 1:] += c
+    ebase = np.concatenate([-c, np.zeros((B, 1))], axis=1)   # (B, n), last column: block gap
+    if dirichlet:
+        dbase[:, 0] = 1.0
+        ebase[:, 0] = 0.0
     active = np.arange(B)
+    eflat = ebase.ravel()[:-1]
     for it in range(max_iter):
         if active.size == B:  # no copies while every point iterates
-            ph, ca, K2Va, wa, ba = phi, c, K2V, w, bvec
+            ph, ca, K2Va, wa, ba, da = phi, c, K2V, w, bvec, dbase
         else:
-            ph, ca, K2Va, wa, ba = (phi[active], c[active], K2V[active], w[:, active],
-                                    bvec[active])
+            ph, ca, K2Va, wa, ba, da = (phi[active], c[active], K2V[active], w[:, active],
+                                        bvec[active], dbase[active])
         f, fp = _f(z, wa, ph)
+        # residual F = L phi + K^2 V f + b, and the diagonal of -J
         F = _laplacian(ca, ph)
-        F += K2Va * f
+        f *= K2Va
+        F += f
         F += ba
-        d = -K2Va * fp
-        d[:, :-1] += ca
-        d[:, 1:] += ca
-        e = -ca.copy()
-        rhs = F.copy()
+        fp *= K2Va
+        d = da - fp
         if dirichlet:
             d[:, 0] = 1.0
-            e[:, 0] = 0.0
-            rhs[:, 0] = 0.0
-        ebig = np.concatenate([e, np.zeros((len(active), 1))], axis=1).ravel()[:-1]
-        _, _, delta, info = lapack.dptsv(d.ravel(), ebig, rhs.reshape(-1, 1))
+            F[:, 0] = 0.0
+        _, _, delta, info = lapack.dptsv(d.ravel(), eflat, F.reshape(-1, 1),
+                                         overwrite_d=1, overwrite_b=1)
         if info != 0:
             raise ConvergenceError(f"tridiagonal solve failed (LAPACK info {info})")
         delta = delta.reshape(ph.shape)
         big = np.max(np.abs(delta), axis=1)
         scale = np.minimum(1.0, 4.0 / np.maximum(big, 1e-300))
-        step = delta * scale[:, None]
+        t = np.ones(len(active))
+        if np.all(scale == 1.0):
+            trial = ph + delta
+            step = delta
+        else:
+            step = delta * scale[:, None]
+            trial = ph + step
         # backtracking on the convex energy; only far from the solution, where
         # a full Newton step may overshoot (near it the step is accepted)
-        t = np.ones(len(active))
-        trial = ph + step
         far = np.flatnonzero(big * scale > 0.25)
         if far.size:
             sub = active[far]
@@ -254,8 +266,7 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-6, max_iter=200)
                 tf = np.where(bad, 0.5 * tf, tf)
                 trial[far] = ph[far] + tf[:, None] * step[far]
             t[far] = tf
-        lim = 2.0 * PB_PHI_MAX / np.min(np.abs(z))
-        np.clip(trial, -lim, lim, out=trial)
+            np.clip(trial, -lim, lim, out=trial)
         if active.size == B:
             phi = trial
         else:
@@ -264,9 +275,11 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-6, max_iter=200)
         # one step is exact, whatever the (absolute) accuracy of the start
         done = (big * t * scale <= tol * np.max(np.abs(trial), axis=1) + 1e-280) & (t == 1.0) \
             & (scale == 1.0) & (it > 0)
-        active = active[~done]
-        if active.size == 0:
-            return phi
+        if np.any(done):
+            active = active[~done]
+            if active.size == 0:
+                return phi
+            eflat = ebase[active].ravel()[:-1]
     raise ConvergenceError(
         f"Poisson-Boltzmann solver did not converge in {max_iter} Newton steps for "
         f"{active.size} of {B} points (e.g. point {int(active[0])})")
