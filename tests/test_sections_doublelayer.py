@@ -81,9 +81,10 @@ def test_pb_tends_to_dh_at_small_zeta(ch):
 @pytest.mark.parametrize("model", ["thin", "dh", "pb"])
 def test_reciprocity_and_positive_definite(ch, model):
     # Onsager (1931): L21 = L12, each computed independently; discretely exact up
-    # to the Newton tolerance. The dissipation matrix is positive definite.
+    # to the Newton tolerance, at any resolution (a coarse accuracy keeps the test
+    # fast). The dissipation matrix is positive definite.
     for wall in (ek.Wall(zeta=-0.08), ek.Wall(charge_density=-0.02), ek.Wall(zeta=0.03)):
-        r = ek.solve(ch, KCL, wall, model=model, accuracy=1e-3)
+        r = ek.solve(ch, KCL, wall, model=model, accuracy=1e-2)
         assert float(r.reciprocity_residual) <= 1e-8
         eig = np.linalg.eigvalsh(0.5 * (r.matrix + r.matrix.T))
         assert np.all(eig > 0)

@@ -156,7 +156,7 @@ def _hydraulic(channel, values, kind, dims, L, n, accuracy, need_shear=True):
         err = abs(ff["u_mean"] - fc["u_mean"]) / 3.0 / ff["u_mean"]
         if err <= accuracy or n >= _N_MAX:
             break
-        n = min(_N_MAX, 8 * int(np.ceil(1.2 * n * np.sqrt(err / accuracy) / 8)))
+        n = min(_N_MAX, 8 * int(np.ceil(1.05 * n * np.sqrt(err / accuracy) / 8)))
     shear = _rich(fc["shear"], ff["shear"])
     if exact is not None:
         return exact, 0.0, shear
@@ -307,7 +307,7 @@ def section_kernel(channel, cond, model, options):
                     if err <= accuracy or nk >= _N_MAX:
                         break
                     # error ~ n^-2: refine once to the resolution the estimate asks for
-                    nk = min(_N_MAX, 8 * int(np.ceil(1.2 * nk * np.sqrt(err / accuracy) / 8)))
+                    nk = min(_N_MAX, 8 * int(np.ceil(1.05 * nk * np.sqrt(err / accuracy) / 8)))
                 ex = {key: _rich(rc[key], rf[key]) for key in
                       ("u_mean", "l12", "l21", "mean_c", "conv", "phi_wall", "mean_g")}
                 u_mean, err_flow, _ = _hydraulic(channel, geo["values"][k], kind, dims, L, n,

@@ -21,7 +21,7 @@ from scipy.spatial import cKDTree
 __all__ = ["graded", "monitor_mass", "Mesh", "merge_blocks", "tensor_block", "polar_block", "fan_block"]
 
 #: Fraction of the nodes drawn to each wall per length scale.
-_PULL = 0.6
+_PULL = 0.35
 
 
 def _cumulative(x, scales, logs, walls, log_weight):

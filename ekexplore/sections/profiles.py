@@ -66,9 +66,12 @@ class SectionProfiles:
         return self.current_migration + self.current_convective
 
     def as_arrays(self):
-        """Dict name -> nodal array (units in :attr:`units`)."""
+        """Dict name -> nodal array (units in :attr:`units`; totals ``velocity``
+        [m/s] and ``current_density`` [A/m^2]; ``c_<ion>`` [mol/m^3])."""
         out = {"x": self.x, "y": self.y}
         out.update({k: getattr(self, k) for k in _FIELDS})
+        out["velocity"] = self.velocity
+        out["current_density"] = self.current_density
         for i, name in enumerate(self.ion_names):
             out[f"c_{name}"] = self.concentrations[i]
         return out

@@ -477,13 +477,6 @@ class Polygon(_Section):
             i = int(np.argmin(edge))
             raise ValueError(f"vertices: corners {i} and {(i + 1) % len(V)} coincide "
                              f"({V[i].tolist()}); the polygon is degenerate")
-        area2 = float(np.sum(V[:, 0] * W[:, 1] - W[:, 0] * V[:, 1]))
-        if abs(area2) <= 1e-9 * span**2:
-            raise ValueError(f"vertices: the polygon has zero area ({0.5 * area2:g} m^2); "
-                             "it is degenerate")
-        if area2 < 0:
-            V = V[::-1].copy()
-            W = np.roll(V, -1, axis=0)
         k = len(V)
         for i in range(k):
             for j in range(i + 1, k):
@@ -492,6 +485,13 @@ class Polygon(_Section):
                 if _segments_cross(V[i], W[i], V[j], W[j]):
                     raise ValueError(f"vertices: the polygon is self-intersecting (edge {i} "
                                      f"crosses edge {j})")
+        area2 = float(np.sum(V[:, 0] * W[:, 1] - W[:, 0] * V[:, 1]))
+        if abs(area2) <= 1e-9 * span**2:
+            raise ValueError(f"vertices: the polygon has zero area ({0.5 * area2:g} m^2); "
+                             "it is degenerate")
+        if area2 < 0:
+            V = V[::-1].copy()
+            W = np.roll(V, -1, axis=0)
         c, r = _chebyshev_centre(V)
         if c is None or r <= 1e-6 * span:
             raise ValueError("vertices: the polygon is not star-shaped (no interior point sees "

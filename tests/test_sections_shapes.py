@@ -1,0 +1,72 @@
+"""Input validation of the 2D sections: bad shapes raise named ValueErrors."""
+import numpy as np
+import pytest
+
+from ekexplore.sections import Ellipse, IsotropicEtch, Polygon, Rectangle, Trapezoid
+
+
+@pytest.mark.parametrize("make, name", [
+    (lambda: Rectangle(width=0.0, depth=1e-6), "width"),
+    (lambda: Rectangle(width=1e-6, depth=-1e-6), "depth"),
+    (lambda: Rectangle(width=[1e-6, -2e-6], depth=1e-6), "width"),
+    (lambda: Rectangle(width=1e-6, depth=1.0), "depth"),
+    (lambda: Ellipse(width=1e-6, height=0.0), "height"),
+    (lambda: Ellipse(width=np.nan, height=1e-6), "width"),
+    (lambda: IsotropicEtch(mask_width=-1e-6, depth=1e-6), "mask_width"),
+    (lambda: IsotropicEtch(mask_width=1e-6, depth=0.0), "depth"),
+    (lambda: Trapezoid(top_width=-1e-6, bottom_width=1e-6, depth=1e-6), "top_width"),
+    (lambda: Trapezoid(top_width=2e-6, bottom_width=-1e-6, depth=1e-6), "bottom_width"),
+    (lambda: Trapezoid(top_width=0.0, bottom_width=0.0, depth=1e-6), "top_width"),
+    (lambda: Trapezoid(top_width=2e-6, bottom_width=1e-6, depth=0.0), "depth"),
+    (lambda: Trapezoid.from_sidewall_angle(top_width=1e-6, depth=2e-6), "depth"),
+    (lambda: Trapezoid.from_sidewall_angle(top_width=1e-6, depth=1e-7, angle=0.0), "angle"),
+])
+def test_bad_sizes_raise_named_errors(make, name):
+    with pytest.raises(ValueError, match=name):
+        make()
+
+
+def test_error_message_gives_value_and_range():
+    with pytest.raises(ValueError) as info:
+        Rectangle(width=-3e-6, depth=1e-6)
+    msg = str(info.value)
+    assert "width" in msg and "-3e-06" in msg and "[1e-09, 0.01]" in msg
+
+
+@pytest.mark.parametrize("vertices, words", [
+    ([[0, 0], [1e-6, 1e-6], [1e-6, 0], [0, 1e-6]], "self-intersecting"),     # bow tie
+    ([[0, 0], [1e-6, 0], [2e-6, 0]], "zero area"),                           # collinear
+    ([[0, 0], [1e-6, 0], [1e-6, 0], [0, 1e-6]], "coincide"),                # repeated corner
+    ([[0, 0], [1e-6, 0]], "k >= 3"),                                          # too few
+    ([[0, 0, 0], [1e-6, 0, 0], [0, 1e-6, 0]], "shape"),                      # not 2D
+    ([[0, 0], [1e-6, 0], [np.inf, 1e-6]], "finite"),
+    ([[0, 0], [1.0, 0], [0, 1.0]], "span"),                                  # above 1 cm
+    # a comb: no interior point sees every wall
+    ([[0, 0], [5e-6, 0], [5e-6, 1e-6], [4e-6, 1e-6], [4e-6, 0.2e-6], [3e-6, 0.2e-6],
+      [3e-6, 1e-6], [2e-6, 1e-6], [2e-6, 0.2e-6], [1e-6, 0.2e-6], [1e-6, 1e-6], [0, 1e-6]],
+     "star-shaped"),
+])
+def test_bad_polygons_raise_named_errors(vertices, words):
+    with pytest.raises(ValueError, match="vertices") as info:
+        Polygon(vertices)
+    assert words in str(info.value)
+
+
+def test_polygon_orientation_does_not_matter():
+    v = [[0, 0], [2e-6, 0], [2.5e-6, 1e-6], [0.3e-6, 1.4e-6]]
+    a, b = Polygon(v), Polygon(v[::-1])
+    assert float(a.area) > 0 and float(b.area) > 0
+    np.testing.assert_allclose(a.poiseuille_number, b.poiseuille_number, rtol=1e-12)
+
+
+def test_non_convex_star_polygon_is_accepted():
+    # an L-shape is star-shaped about points near its inner corner
+    L = Polygon([[0, 0], [2e-6, 0], [2e-6, 1e-6], [1e-6, 1e-6], [1e-6, 2e-6], [0, 2e-6]])
+    assert 0 < float(L.half_size) <= 0.5e-6
+    assert 10.0 < float(L.poiseuille_number) < 20.0
+
+
+def test_v_groove_trapezoid_is_accepted():
+    v = Trapezoid(top_width=2e-6, bottom_width=0.0, depth=1e-6)
+    np.testing.assert_allclose(v.area, 1e-12)
+    assert float(v.half_size) < 0.5e-6
