@@ -14,11 +14,13 @@ from .transport import solve, Result
 from .profiles import Profiles
 from .regimes import estimated_model_errors, regime_verdict
 from .sweep import sweep, design_table
+from .sections import Rectangle, Trapezoid, IsotropicEtch, Ellipse, Polygon
 
 __all__ = [
     "Channel", "Slit", "Tube", "SHAPES", "register_shape", "ConvergenceError",
     "solve", "Result", "Profiles", "estimated_model_errors", "regime_verdict",
     "sweep", "design_table",
+    "Rectangle", "Trapezoid", "IsotropicEtch", "Ellipse", "Polygon",
     "water_relative_permittivity", "water_permittivity", "water_viscosity", "water_density",
     "Ion", "ION_TABLE", "SALTS", "Electrolyte", "debye_length",
     "Wall", "grahame_charge", "grahame_potential", "diffuse_layer_conductance",
