@@ -117,7 +117,7 @@ class RegimesView:
         self.plots = bokeh_widget(row(fa, fb))
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
                         "<span class='ekx-sub'>&nbsp; tap a map to move the operating point; "
-                        "hover to read values; grey: outside the solver range</span>")
+                        "hover to read values; one colour scale (right) for both maps; grey: outside the solver range</span>")
         right = w.VBox([self.status.widget, self.layer, self.plots, self.readout],
                        layout=w.Layout(width="920px"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])

@@ -8,6 +8,7 @@ EKEXPLORE_REQUIRE_BROWSER=1 on CI so a missing browser fails instead.
 """
 from __future__ import annotations
 
+import contextlib
 import os
 import shutil
 import signal
@@ -46,14 +47,12 @@ def chromium_path():
     return path
 
 
-@pytest.fixture(scope="session")
-def server():
-    """``ekexplore serve`` on a free localhost port; killed at the end."""
-    log = ARTIFACTS / "serve.log"
+@contextlib.contextmanager
+def start_server(*extra, log_name="serve.log"):
+    """Run ``ekexplore serve`` on a free localhost port; always stopped after."""
     ARTIFACTS.mkdir(exist_ok=True)
-    out = open(log, "w")
-    proc = subprocess.Popen([sys.executable, "-m", "ekexplore", "serve", "--cull-idle", "120",
-                             "--cull-interval", "30"],
+    out = open(ARTIFACTS / log_name, "w")
+    proc = subprocess.Popen([sys.executable, "-m", "ekexplore", "serve", *extra],
                             stdout=subprocess.PIPE, stderr=out, text=True,
                             start_new_session=True, cwd=ROOT)
     base = None
@@ -97,6 +96,37 @@ def server():
                 os.killpg(proc.pid, signal.SIGKILL)
                 proc.wait(timeout=5)
         out.close()
+
+
+def kernel_processes(server_proc):
+    """PIDs of the kernels under a server's process tree (Linux /proc)."""
+    parents = {}
+    for d in Path("/proc").iterdir():
+        if not d.name.isdigit():
+            continue
+        try:
+            stat = (d / "stat").read_text()
+            cmd = (d / "cmdline").read_bytes().replace(b"\0", b" ").decode("utf-8", "replace")
+        except OSError:
+            continue
+        ppid = int(stat.rsplit(")", 1)[1].split()[1])
+        parents[int(d.name)] = (ppid, cmd)
+    tree = {server_proc.pid}
+    changed = True
+    while changed:
+        changed = False
+        for pid, (ppid, _) in parents.items():
+            if ppid in tree and pid not in tree:
+                tree.add(pid)
+                changed = True
+    return [pid for pid in tree if "ipykernel" in parents.get(pid, (0, ""))[1]]
+
+
+@pytest.fixture(scope="session")
+def server():
+    """``ekexplore serve`` on a free localhost port for the whole session."""
+    with start_server("--cull-idle", "120", "--cull-interval", "30") as srv:
+        yield srv
 
 
 @pytest.fixture(scope="session")

@@ -252,3 +252,23 @@ def test_explorer_2d_section_fields(server, browser, artifacts):
         _assert_clean(p)
     finally:
         p.close()
+
+
+def test_closed_page_kernel_is_culled(browser):
+    """A closed page leaves its kernel idle; the server's culling removes it."""
+    import importlib.util
+    spec = importlib.util.spec_from_file_location(
+        "browser_conftest", Path(__file__).with_name("conftest.py"))
+    conf = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(conf)
+    if not Path("/proc/self/stat").exists():
+        pytest.skip("needs Linux /proc to count kernel processes")
+    with conf.start_server("--cull-idle", "6", "--cull-interval", "2",
+                           log_name="serve-cull.log") as srv:
+        p = Page(browser, srv["base"] + "/voila/render/device.ipynb")
+        assert len(conf.kernel_processes(srv["proc"])) == 1
+        p.close()
+        deadline = time.monotonic() + 90
+        while time.monotonic() < deadline and conf.kernel_processes(srv["proc"]):
+            time.sleep(1)
+        assert conf.kernel_processes(srv["proc"]) == []
