@@ -52,39 +52,39 @@ def _gouy(lam, z, phi_w):
 def scaled_solution(mesh, kl2, w, z, condition, value, model, guess=None):
     """Potential and the scaled area means on one mesh.
 
-    Returns a dict: ``phi`` nodal potential, ``h`` its discrete harmonic
-    extension from the wall, ``u`` the scaled Poiseuille profile, and the
-    means ``u_mean`` <u>, ``l12`` <phi - h>, ``l21`` (kappa L)^2 <g u> with g
-    the scaled charge density, ``mean_c`` <c_i>/c_i and ``conv`` <c_i/c_i (phi - h)>
-    per ion, ``phi_wall`` the wall-averaged potential and ``mean_g`` <g>.
+    Returns a dict: ``phi`` nodal potential, ``d`` = phi - h with h the
+    discrete harmonic function equal to phi on the wall (u_eo over
+    eps kT/(e eta) E), ``u`` the scaled Poiseuille profile, ``g`` the scaled
+    charge density, and the means ``u_mean`` <u>, ``l12`` <d>, ``l21``
+    (kappa L)^2 <g u>, ``mean_c`` <c_i>/c_i and ``conv`` <c_i/c_i d> per ion,
+    ``phi_wall`` the wall-averaged potential and ``mean_g`` <g>.
     """
-    phi, info = solve_potential(mesh, kl2, w, z, condition, value, model, guess)
+    offset, dev, info = solve_potential(mesh, kl2, w, z, condition, value, model, guess)
+    phi = offset + dev
     u = flow_profile(mesh)
     m = mesh.m / mesh.area
     if condition == "potential":
-        h = np.full_like(phi, value)
+        d = dev
     else:
-        h = harmonic_extension(mesh, phi)
+        d = dev - harmonic_extension(mesh, dev)
     zc = z[:, None]
     if model == "pb":
-        e = np.exp(-zc * phi[None, :])
-        g = w @ e
-        conc = e
-        conv_factor = e
+        conc = np.exp(-zc * offset) * np.exp(-zc * dev[None, :])
+        g = w @ conc
+        conv_factor = conc
     else:   # dh: linear charge, Boltzmann factors to second (migration) and first order
         g = -phi
         conc = 1.0 - zc * phi[None, :] + 0.5 * zc**2 * phi[None, :] ** 2
         conv_factor = 1.0 - zc * phi[None, :]
-    d = phi - h
     wall = mesh.wall
     return {
-        "phi": phi, "h": h, "u": u, "g": g, "info": info,
+        "phi": phi, "d": d, "u": u, "g": g, "info": info,
         "u_mean": float(m @ u),
         "l12": float(m @ d),
         "l21": float(kl2 * (m @ (g * u))),
         "mean_c": conc @ m,
         "conv": (conv_factor * d[None, :]) @ m,
-        "phi_wall": float(mesh.b[wall] @ phi[wall] / mesh.b[wall].sum()),
+        "phi_wall": float(offset + mesh.b[wall] @ dev[wall] / mesh.b[wall].sum()),
         "mean_g": float(m @ g),
         "area": mesh.area, "perimeter": mesh.perimeter,
     }

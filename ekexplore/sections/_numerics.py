@@ -69,6 +69,22 @@ def _energy(K, m, kl2, w, z, phi, sb):
     return 0.5 * _dot(phi, K @ phi) + kl2 * _dot(m, pot) - _dot(sb, phi)
 
 
+def _donnan(w, z, target):
+    """Uniform potential with g(phi) = target (g decreases monotonically): bisection."""
+    lo, hi = -700.0 / np.max(np.abs(z)), 700.0 / np.max(np.abs(z))
+    for _ in range(200):
+        mid = 0.5 * (lo + hi)
+        with np.errstate(over="ignore"):
+            val = float(np.sum(w * np.exp(-z * mid)))
+        if val > target:
+            lo = mid
+        else:
+            hi = mid
+        if hi - lo < 1e-14 * max(1.0, abs(mid)):
+            break
+    return 0.5 * (lo + hi)
+
+
 def _pcg(A, b, precond, rtol=1e-13, maxiter=30):
     """Preconditioned conjugate gradients for SPD A; returns (x, converged)."""
     x = precond(b)
@@ -92,7 +108,7 @@ def _pcg(A, b, precond, rtol=1e-13, maxiter=30):
 
 
 def solve_potential(mesh, kl2, w, z, condition, value, model, guess=None):
-    """Scaled potential phi at the nodes.
+    """Scaled potential at the nodes, as a uniform offset plus a deviation.
 
     Parameters
     ----------
@@ -106,54 +122,66 @@ def solve_potential(mesh, kl2, w, z, condition, value, model, guess=None):
         Scaled wall potential e zeta / kT, or scaled charge s = sigma L e/(eps k T).
     model : "dh" or "pb"
     guess : ndarray, optional
-        Start of the Newton iteration (pb), e.g. a coarser solution.
+        Start of the Newton iteration (pb) as a full potential, e.g. a coarser solution.
 
     Returns
     -------
-    phi : ndarray
-        Nodal scaled potential.
+    offset : float
+        The wall potential (constant-potential wall) or the uniform potential
+        that neutralises the wall charge (constant-charge wall: the Donnan
+        potential, DH or PB). The coefficients depend on the deviation only,
+        which is solved for directly, so no precision is lost when the offset
+        is many times larger than the potential's variation (overlapped layers).
+    dev : ndarray
+        phi - offset at the nodes (zero on a constant-potential wall).
     info : dict
         Newton iterations and the final update norm.
     """
     K, m = mesh.K, mesh.m
     keep = w != 0
     w, z = w[keep], z[keep]
+    zm = np.max(np.abs(z))
+    n = mesh.n_nodes
     if condition == "potential":
+        offset = float(value)
         idx = mesh.interior
         A = mesh.K_II
-        phi = np.full(mesh.n_nodes, float(value))
-        sb = np.zeros(mesh.n_nodes)
+        sb = np.zeros(n)
     else:
-        idx = np.arange(mesh.n_nodes)
+        idx = np.arange(n)
         A = K
         sb = value * mesh.b
-    if guess is not None and model == "pb":
-        phi = np.array(guess, dtype=float)
+        total = value * mesh.b.sum() / (kl2 * m.sum())
+        offset = total if model == "dh" else _donnan(w, z, -total)
+    dev = np.zeros(n)
+    if model == "dh":
+        # linear: (K + kl2 M) dev = -kl2 m offset + s b, zero on a potential wall
+        rhs = -kl2 * m[idx] * offset + sb[idx]
+        dev[idx] = factorize((A + sp.diags(kl2 * m[idx])).tocsc()).solve(rhs)
+        return offset, dev, {"iterations": 1, "update": 0.0}
+    we = w * np.exp(-z * offset)          # g(offset + dev) = sum_i we_i exp(-z_i dev)
+    if guess is not None:
+        dev = np.array(guess, dtype=float) - offset
         if condition == "potential":
-            phi[mesh.wall] = value
-    elif condition == "potential":
-        # Debye-Hueckel start (exact answer for the dh model)
-        rhs = -kl2 * m[idx] * value
-        lu = factorize((A + sp.diags(kl2 * m[idx])).tocsc())
-        phi[idx] = value + lu.solve(rhs)
-        if model == "dh":
-            return phi, {"iterations": 1, "update": 0.0}
-        # Gouy-Chapman shaped start: keeps the Newton path short at high |zeta|
-        f = np.clip((phi - 0.0) / value, 0.0, 1.0) if value != 0 else np.zeros_like(phi)
-        zm = np.max(np.abs(z))
-        phi = 4.0 / zm * np.arctanh(np.tanh(zm * value / 4.0) * f)
+            dev[mesh.wall] = 0.0
     else:
-        lu = factorize((K + sp.diags(kl2 * m)).tocsc())
-        phi = lu.solve(sb)
-        if model == "dh":
-            return phi, {"iterations": 1, "update": 0.0}
+        # linearised about the offset: (K + kl2 g1 M) dev = kl2 m g0 + s b
+        g0, g1 = float(np.sum(we)), float(np.sum(we * z))
+        rhs = kl2 * m[idx] * g0 + sb[idx]
+        dev[idx] = factorize((A + sp.diags(kl2 * g1 * m[idx])).tocsc()).solve(rhs)
+        if condition == "potential" and offset != 0.0:
+            # Gouy-Chapman shaped start: keeps the Newton path short at high |zeta|
+            f = np.clip(1.0 + dev / offset, 0.0, 1.0)
+            dev = 4.0 / zm * np.arctanh(np.tanh(zm * offset / 4.0) * f) - offset
+        else:
+            dev = np.clip(dev, -30.0 / zm, 30.0 / zm)
     mI = m[idx]
-    E0 = _energy(K, m, kl2, w, z, phi, sb)
+    E0 = _energy(K, m, kl2, we, z, dev, sb)
     update = np.inf
     lu = None
     for it in range(1, _NEWTON_MAXIT + 1):
-        g, dg = _g(phi[idx], w, z)
-        res = (K @ phi)[idx] - kl2 * mI * g - sb[idx]
+        g, dg = _g(dev[idx], we, z)
+        res = (K @ dev)[idx] - kl2 * mI * g - sb[idx]
         J = (A + sp.diags(kl2 * mI * dg)).tocsc()
         d = None
         if lu is not None:
@@ -165,19 +193,26 @@ def solve_potential(mesh, kl2, w, z, condition, value, model, guess=None):
             lu = factorize(J)
             d = -lu.solve(res)
         step = 1.0
-        trial = phi.copy()
-        for _ in range(40):
-            trial[idx] = phi[idx] + step * d
-            E1 = _energy(K, m, kl2, w, z, trial, sb)
+        trial = dev.copy()
+        for _ in range(60):
+            trial[idx] = dev[idx] + step * d
+            with np.errstate(over="ignore", invalid="ignore"):
+                E1 = _energy(K, m, kl2, we, z, trial, sb)
+            if not np.isfinite(E1):
+                step *= 0.5
+                continue
             if E1 <= E0 + 1e-4 * step * _dot(res, d) + 1e-13 * abs(E0) or step < 1e-10:
                 break
             step *= 0.5
-        phi, E0 = trial, E1
+        dev, E0 = trial, E1
         update = step * np.max(np.abs(d))
-        if update < _NEWTON_TOL * max(1.0, np.max(np.abs(phi))):
+        # converged when the update is negligible against the potential's variation
+        # across the section (which sets the coefficients), or at round-off
+        spread = float(np.ptp(dev))
+        if update <= _NEWTON_TOL * spread or update <= 1e-15 * max(1.0, np.max(np.abs(dev))):
             break
     else:
         raise FloatingPointError(
             f"internal error: 2D Poisson-Boltzmann Newton did not converge "
             f"(last update {update:.3g}); please report the inputs")
-    return phi, {"iterations": it, "update": update}
+    return offset, dev, {"iterations": it, "update": update}

@@ -266,7 +266,7 @@ def section_profiles_factory(channel, cond, models, accuracy):
                 r = scaled_solution(mesh, (kappa * L) ** 2, w, z,
                                     "potential" if potential_wall else "charge", value, name)
                 phi, u = r["phi"], r["u"]
-                ueo_s = phi - r["h"]
+                ueo_s = r["d"]
             zc = z[:, None]
             if name == "dh":
                 conc = c[:, None] * (1.0 - zc * phi[None] + 0.5 * zc**2 * phi[None] ** 2)
