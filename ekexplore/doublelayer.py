@@ -91,21 +91,30 @@ def _f(z, w, phi):
     """f and f' (B, n) for valences z (k,), weights w (k, B), phi (B, n).
 
     sum z w = 0 (neutral bulk), so f = sum z w expm1(-z phi) is exact at tiny
-    potentials. One ion at a time, in place: no (k, B, n) temporaries.
+    potentials. One expm1 per distinct |z|: expm1(+x) = -expm1(-x)/(1 + expm1(-x))
+    serves the ion of opposite sign. In place: no (k, B, n) temporaries.
     """
     f = np.zeros_like(phi)
     fp = np.zeros_like(phi)
-    em = np.empty_like(phi)
     tmp = np.empty_like(phi)
-    for zi, wi in zip(z, w):
-        a = (zi * wi)[:, None]
-        np.multiply(phi, -zi, out=em)
-        np.expm1(em, out=em)
-        np.multiply(em, a, out=tmp)
-        f += tmp
-        em += 1.0
-        np.multiply(em, zi * a, out=tmp)
-        fp -= tmp
+    for a in np.unique(np.abs(z)):
+        em = np.multiply(phi, -a)
+        np.expm1(em, out=em)                       # expm1(-a phi): ions with z = +a
+        ep = None
+        if np.any(z == -a):
+            ep = np.add(em, 1.0)
+            np.divide(em, ep, out=ep)
+            np.negative(ep, out=ep)                # expm1(+a phi): ions with z = -a
+        for zi, wi in zip(z, w):
+            if abs(zi) != a:
+                continue
+            e = em if zi > 0 else ep
+            c1 = (zi * wi)[:, None]
+            np.multiply(e, c1, out=tmp)
+            f += tmp
+            np.add(e, 1.0, out=tmp)
+            tmp *= zi * c1
+            fp -= tmp
     return f, fp
 
 
