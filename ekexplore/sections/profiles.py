@@ -235,7 +235,7 @@ def section_profiles_factory(channel, cond, models, accuracy):
         b = _flat_conditions(cond)
         geo = channel._geometry_arrays(cond.shape)
         mods = np.broadcast_to(np.asarray(models), cond.shape).reshape(-1)
-        n = 2 * resolution(accuracy)
+        n = 4 * resolution(accuracy)       # twice the kernel's finest level: smooth images
         result = np.empty(b["B"], dtype=object)
         z = b["z"]
         for k in range(b["B"]):
