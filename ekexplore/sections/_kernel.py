@@ -132,16 +132,17 @@ def flow_solution(mesh):
             "shear": float(r[mesh.wall].sum() / mesh.area)}
 
 
-def _levels(kind, dims, n, lam, gouy, kl2, w, z, condition, value, model, lam_c, zc):
+def _levels(kind, dims, n, lam, gouy, kl2, w, z, condition, value, model, lam_c, conv_c):
     """Solutions on the meshes with n/2, n and 2n cells.
 
     Returns the solutions with n and 2n cells (their Richardson combination is
     the result) and its estimated relative error: the difference between the
     Richardson values of the pairs (n, 2n) and (n/2, n), largest over the
-    electro-osmotic, streaming, migration and convection coefficients. It is the error
+    electro-osmotic, streaming and conductive coefficients. It is the error
     estimate of the coarser extrapolation, so it bounds the finer one while
-    the solution converges monotonically. ``lam_c`` (lambda_i c_i) and ``zc``
-    (z_i c_i) weigh the ions into the migration and convection conductivities.
+    the solution converges monotonically. ``lam_c`` (lambda_i c_i) and ``conv_c``
+    (z_i F c_i eps kT/(e eta)) turn the scaled means into the migration and
+    convection parts of the conductive coefficient [S/m].
     (The hydraulic coefficient comes
     from meshes graded for the flow alone, see :func:`_hydraulic`.)
     """
@@ -152,9 +153,9 @@ def _levels(kind, dims, n, lam, gouy, kl2, w, z, condition, value, model, lam_c,
                                     guess=prolong(meshes[i - 1], meshes[i], sols[-1]["phi"])))
 
     def coeffs(r):
-        out = [lam_c @ r["mean_c"]]
+        out = [lam_c @ r["mean_c"] + conv_c @ r["conv"]]        # conductive coefficient
         if abs(sols[2]["l12"]) > 1e-300:
-            out += [r["l12"], r["l21"], zc @ r["conv"]]
+            out += [r["l12"], r["l21"]]
         return np.array(out)
 
     c0, c1, c2 = (coeffs(r) for r in sols)
@@ -324,7 +325,7 @@ def section_kernel(channel, cond, model, options):
                 nk = n
                 for attempt in range(2):
                     rc, rf, err = _levels(kind, dims, nk, lam, gouy, kl2, w, z, cond_name,
-                                          value, name, lam_i * c, z * c)
+                                          value, name, lam_i * c, z * F * c * eps * VT / eta)
                     if err <= accuracy or nk >= _N_MAX:
                         break
                     nk = _refined(nk, err, accuracy)   # refine once, as the estimate asks
