@@ -8,7 +8,8 @@ strongly charged wall (None when the wall potential is small).
 """
 from __future__ import annotations
 
-from functools import lru_cache
+import threading
+from collections import OrderedDict, namedtuple
 
 import numpy as np
 
@@ -69,10 +70,44 @@ def mesh_key(kind, dims, n, lam, gouy):
     return (kind, dims, int(n), lam, gouy)
 
 
-@lru_cache(maxsize=64)
-def _cached(key):
-    kind, dims, n, lam, gouy = key
-    return _BUILDERS[kind](dims, n, lam, gouy)
+class _MeshCache:
+    """Least-recently-used meshes (with their factorisations), bounded by the
+    total number of nodes so that a sweep over large meshes cannot exhaust
+    memory. ``cache_info()`` counts hits and misses."""
+
+    def __init__(self, max_nodes=3_000_000, max_items=128):
+        self._d = OrderedDict()
+        self.max_nodes, self.max_items = max_nodes, max_items
+        self.hits = self.misses = 0
+        self._lock = threading.Lock()
+
+    def __call__(self, key):
+        with self._lock:
+            if key in self._d:
+                self._d.move_to_end(key)
+                self.hits += 1
+                return self._d[key]
+        kind, dims, n, lam, gouy = key
+        mesh = _BUILDERS[kind](dims, n, lam, gouy)
+        with self._lock:
+            self.misses += 1
+            self._d[key] = mesh
+            while len(self._d) > 1 and (len(self._d) > self.max_items or sum(
+                    m.n_nodes for m in self._d.values()) > self.max_nodes):
+                self._d.popitem(last=False)
+        return mesh
+
+    def cache_info(self):
+        return _CacheInfo(self.hits, self.misses, len(self._d))
+
+    def cache_clear(self):
+        with self._lock:
+            self._d.clear()
+            self.hits = self.misses = 0
+
+
+_CacheInfo = namedtuple("CacheInfo", "hits misses currsize")
+_cached = _MeshCache()
 
 
 def build_mesh(kind, dims, n, lam=None, gouy=None):

@@ -149,7 +149,7 @@ class Rectangle(_Section):
     ----------
     .. [1] White, F. M. (2006). *Viscous Fluid Flow*, 3rd ed., McGraw-Hill, eq. 3-48.
     .. [2] Shah, R. K.; London, A. L. (1978). *Laminar Flow Forced Convection in
-       Ducts*, Academic Press. doi:10.1016/C2013-0-06152-X
+       Ducts*, Academic Press (Advances in Heat Transfer, Suppl. 1).
 
     Examples
     --------
