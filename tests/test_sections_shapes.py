@@ -70,3 +70,15 @@ def test_v_groove_trapezoid_is_accepted():
     v = Trapezoid(top_width=2e-6, bottom_width=0.0, depth=1e-6)
     np.testing.assert_allclose(v.area, 1e-12)
     assert float(v.half_size) < 0.5e-6
+
+
+@pytest.mark.parametrize("scale", [1e-9, 1e-6, 1e-3])
+def test_polygon_geometry_is_scale_free(scale):
+    # an L-shape: its kernel is the unit square, whose largest circle has radius 1/2
+    # (geometry), whatever the length unit
+    v = np.array([[0, 0], [2, 0], [2, 1], [1, 1], [1, 2], [0, 2]]) * 2 * scale
+    p = Polygon(v)
+    np.testing.assert_allclose(p.half_size, scale, rtol=1e-9)
+    np.testing.assert_allclose(p._centre, [scale, scale], rtol=1e-9)
+    t = Trapezoid(3 * scale, 1 * scale, 1 * scale)
+    np.testing.assert_allclose(t.half_size, 0.5 * scale, rtol=1e-9)   # limited by the depth

@@ -51,6 +51,10 @@ def _chebyshev_centre(V):
     """Centre and radius of the largest circle inside all inner half-planes of
     the edges of the counter-clockwise polygon V (the polygon's kernel)."""
     from scipy.optimize import linprog
+    # the LP works in units of the polygon's span (its tolerances are absolute)
+    scale = float(np.max(np.ptp(V, axis=0)))
+    origin = V.mean(axis=0)
+    V = (V - origin) / scale
     W = np.roll(V, -1, axis=0)
     e = W - V
     L = np.linalg.norm(e, axis=1)
@@ -62,7 +66,7 @@ def _chebyshev_centre(V):
                   method="highs")
     if res.status != 0:
         return None, 0.0
-    return res.x[:2], float(res.x[2])
+    return origin + scale * res.x[:2], scale * float(res.x[2])
 
 
 class _Section(Channel):
