@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 from scipy.spatial import cKDTree
 
-from .._state import F, R as R_GAS
+from .._state import F
 
 __all__ = ["SectionProfiles", "UNITS", "section_profiles_factory"]
 
