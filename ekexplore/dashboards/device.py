@@ -51,7 +51,7 @@ class DeviceView:
     """Build the device calculator on a :class:`State`; ``.widget`` to display."""
 
     def __init__(self, state: State | None = None):
-        from bokeh.layouts import column, row
+        from bokeh.layouts import column
         from bokeh.models import ColumnDataSource
 
         self.state = state if state is not None else State()
@@ -95,12 +95,15 @@ class DeviceView:
         self.worker = Worker()
         self.state.observe(self._changed)
         self.update(sync=True)
-        self.plots = bokeh_widget(row(fp, column(fg, fe)))
+        # two widgets that wrap under each other in a narrow notebook column
+        self.plots = w.HBox([bokeh_widget(fp), bokeh_widget(column(fg, fe))],
+                            layout=w.Layout(flex_flow="row wrap"))
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
                         "<span class='ekx-sub'>&nbsp; flow, current and power of one channel; "
                         "pump and generator curves</span>")
         right = w.VBox([self.status.widget, w.HTML(SAFETY_NOTE), self.plots, self.readout],
-                       layout=w.Layout(width="920px"))
+                       layout=w.Layout(flex="1 1 auto", max_width="920px", min_width="0",
+                                        overflow_x="auto"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
 
     def _changed(self, change):

@@ -150,7 +150,8 @@ class ExplorerView:
                         "<span class='ekx-sub'>&nbsp; flow and current of an electrolyte in "
                         "a charged channel: [⟨u⟩, ⟨j⟩] = M · [−dp/dx, E]</span>")
         right = w.VBox([self.status.widget, self.verdict, self.matrix, self.tabs],
-                       layout=w.Layout(width="940px"))
+                       layout=w.Layout(flex="1 1 auto", max_width="940px", min_width="0",
+                                        overflow_x="auto"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
 
     # ---- wiring ----------------------------------------------------------------

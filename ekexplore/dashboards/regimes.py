@@ -29,7 +29,6 @@ class RegimesView:
         from bokeh.models import (ColorBar, ColumnDataSource, HoverTool, Label, LinearColorMapper,
                                   LogColorMapper, Span)
         from bokeh.palettes import Cividis256
-        from bokeh.layouts import row
 
         self.state = state if state is not None else State()
         self.n = n
@@ -114,12 +113,15 @@ class RegimesView:
         self.layer.observe(lambda ch: self._recolour(), "value")
         self.state.observe(self._changed)
         self.update(sync=True)
+        # one document: both maps share the colour mappers
+        from bokeh.layouts import row
         self.plots = bokeh_widget(row(fa, fb))
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
                         "<span class='ekx-sub'>&nbsp; tap a map to move the operating point; "
                         "hover to read values; one colour scale (right) for both maps; grey: outside the solver range</span>")
         right = w.VBox([self.status.widget, self.layer, self.plots, self.readout],
-                       layout=w.Layout(width="920px"))
+                       layout=w.Layout(flex="1 1 auto", max_width="920px", min_width="0",
+                                        overflow_x="auto"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
 
     # ---- wiring -----------------------------------------------------------------
