@@ -219,6 +219,8 @@ class Trapezoid(_Section):
     >>> t = Trapezoid.from_sidewall_angle(top_width=3e-6, depth=1e-6)
     >>> f"{float(t.bottom_width) * 1e6:.3f} um"
     '1.586 um'
+    >>> f"{float(t.sidewall_angle):.2f} deg"
+    '54.74 deg'
     >>> float(Trapezoid(2e-6, 2e-6, 1e-6).poiseuille_number) > 15.5
     True
     """
@@ -267,6 +269,11 @@ class Trapezoid(_Section):
                              "the sidewalls meet above the floor (bottom width "
                              f"{float(np.min(bottom)):g} m < 0)")
         return cls(top, np.maximum(bottom, 0.0), d)
+
+    @property
+    def sidewall_angle(self):
+        """Angle between a sidewall and the top surface [deg] (90: a rectangle)."""
+        return np.degrees(np.arctan2(self.depth, 0.5 * (self.top_width - self.bottom_width)))
 
     @property
     def area(self):
