@@ -103,7 +103,7 @@ class DeviceView:
                         "pump and generator curves</span>")
         right = w.VBox([self.status.widget, w.HTML(SAFETY_NOTE), self.plots, self.readout],
                        layout=w.Layout(flex="1 1 auto", max_width="920px", min_width="0",
-                                        overflow_x="auto"))
+                                        overflow="auto"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
 
     def _changed(self, change):

@@ -151,7 +151,7 @@ class ExplorerView:
                         "a charged channel: [⟨u⟩, ⟨j⟩] = M · [−dp/dx, E]</span>")
         right = w.VBox([self.status.widget, self.verdict, self.matrix, self.tabs],
                        layout=w.Layout(flex="1 1 auto", max_width="940px", min_width="0",
-                                        overflow_x="auto"))
+                                        overflow="auto"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
 
     # ---- wiring ----------------------------------------------------------------

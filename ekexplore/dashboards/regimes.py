@@ -121,7 +121,7 @@ class RegimesView:
                         "hover to read values; one colour scale (right) for both maps; grey: outside the solver range</span>")
         right = w.VBox([self.status.widget, self.layer, self.plots, self.readout],
                        layout=w.Layout(flex="1 1 auto", max_width="920px", min_width="0",
-                                        overflow_x="auto"))
+                                        overflow="auto"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
 
     # ---- wiring -----------------------------------------------------------------
