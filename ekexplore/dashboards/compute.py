@@ -160,7 +160,7 @@ def derived(r, state):
         ("streaming current (whole channel)",
          eng(scalar(cond["current_per_pressure"]) * 1e3, "A") + " per kPa",
          "short-circuit current per unit pressure drop"),
-        ("electroviscous ratio", num(scalar(r.electroviscous_ratio)),
+        ("electroviscous ratio", num(scalar(r.electroviscous_ratio), 6),
          "apparent over true viscosity: the streaming potential slows pressure flow"),
         ("Dukhin number", num(scalar(r.dukhin)),
          "surface over bulk conduction"),
