@@ -205,11 +205,15 @@ def solve_potential(mesh, kl2, w, z, condition, value, model, guess=None):
                 break
             step *= 0.5
         dev, E0 = trial, E1
-        update = step * np.max(np.abs(d))
+        previous, update = update, step * np.max(np.abs(d))
         # converged when the update is negligible against the potential's variation
-        # across the section (which sets the coefficients), or at round-off
+        # across the section (which sets the coefficients), or at round-off: a
+        # small update that no longer shrinks (quadratic convergence has stalled
+        # at the conditioning limit of very thin layers)
         spread = float(np.ptp(dev))
         if update <= _NEWTON_TOL * spread or update <= 1e-15 * max(1.0, np.max(np.abs(dev))):
+            break
+        if update <= 1e-9 * max(spread, 1.0) and update > 0.25 * previous:
             break
     else:
         raise FloatingPointError(
