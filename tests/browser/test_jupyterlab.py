@@ -32,18 +32,22 @@ def _free_port():
 
 
 @pytest.fixture(scope="module")
-def lab(chromium_path):
+def lab(chromium_path, tmp_path_factory):
     pytest.importorskip("jupyterlab")
+    # JupyterLab autosaves what it runs: serve copies, never the repository's notebooks
+    from ekexplore.dashboards.notebooks import write_notebooks
+    root = tmp_path_factory.mktemp("lab")
+    write_notebooks(root / "dashboards")
     port = _free_port()
     token = secrets.token_hex(8)
     ARTIFACTS.mkdir(exist_ok=True)
     log = open(ARTIFACTS / "jupyterlab.log", "w")
     cmd = [sys.executable, "-m", "jupyter", "lab", "--no-browser", f"--port={port}",
            "--ServerApp.ip=127.0.0.1", f"--ServerApp.token={token}",
-           f"--ServerApp.root_dir={ROOT}", "--LabApp.news_url=", "--ServerApp.open_browser=False"]
+           f"--ServerApp.root_dir={root}", "--LabApp.news_url=", "--ServerApp.open_browser=False"]
     if hasattr(os, "geteuid") and os.geteuid() == 0:
         cmd.append("--allow-root")
-    proc = subprocess.Popen(cmd, stdout=log, stderr=log, start_new_session=True, cwd=ROOT)
+    proc = subprocess.Popen(cmd, stdout=log, stderr=log, start_new_session=True, cwd=root)
     base = f"http://127.0.0.1:{port}"
     try:
         deadline = time.monotonic() + 90
