@@ -232,3 +232,17 @@ def test_rectangle_series_equals_the_double_sine_series():
     # and the flow: <u> eta / G = sum 64 / (pi^4 m^2 n^2 (a_m^2 + b_n^2)) (same expansion)
     flow = (64.0 / (np.pi**4 * m**2 * n**2 * ((m * np.pi / W)**2 + (n * np.pi / H)**2))).sum()
     assert_allclose(rectangle_dh(W, H, kappa)["mean_u"], flow, rtol=1e-4)
+
+
+def test_two_meshers_agree_for_a_charged_wall_with_thin_layers():
+    # the same 2:1 rectangle meshed as a tensor grid (Rectangle) and as fans
+    # (Polygon), constant charge, kappa * half-size = 1e4: both must agree within
+    # the sum of their reported errors (this caught a pre-asymptotic coarse level)
+    e = ek.Electrolyte.salt("KCl", 100.0)
+    s = 2e-5
+    wall = ek.Wall(charge_density=-0.05)
+    a = ek.solve(Rectangle(2 * s, s), e, wall, model="pb", accuracy=1e-3)
+    b = ek.solve(Polygon([[-s, 0], [s, 0], [s, s], [-s, s]]), e, wall, model="pb", accuracy=1e-3)
+    tol = float(a.error_estimate + b.error_estimate)
+    assert tol <= 2e-3
+    assert_allclose(b.matrix, a.matrix, rtol=tol)

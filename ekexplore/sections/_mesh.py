@@ -34,13 +34,16 @@ def _cumulative(x, scales, logs, walls, log_weight):
             out = out + a * (-np.expm1(-x / e))
         if right:
             out = out + a * (np.exp(-(1.0 - x) / e) - np.exp(-1.0 / e))
-    for d0, d1 in logs:
+    for entry in logs:
+        d0, d1 = entry[0], entry[1]
+        lw = entry[2] if len(entry) > 2 else log_weight
+
         def part(y):
             return np.log1p(y / d0) - np.log1p(y / d1)
         if left:
-            out = out + log_weight * part(x)
+            out = out + lw * part(x)
         if right:
-            out = out + log_weight * (part(1.0) - part(1.0 - x))
+            out = out + lw * (part(1.0) - part(1.0 - x))
     return out
 
 
@@ -52,12 +55,13 @@ def graded(n, scales=(), walls=(True, True), logs=(), log_weight=0.0):
     (and its mirror image at the end wall). The exponential terms put about
     a/(1 + 2 a K) of the nodes within a few e_k of each wall; the log terms
     space nodes evenly in log(distance) between d0 and d1 (the
-    Gouy-Chapman layer of a strongly charged wall). Scales of 0.5 or more add
+    Gouy-Chapman layer of a strongly charged wall; an entry (d0, d1, b) sets
+    its own weight b). Scales of 0.5 or more add
     nothing. The mapping is smooth, so halving the spacing (doubling n)
     refines it uniformly in the computational coordinate.
     """
     scales = [e for e in np.atleast_1d(scales) if 0.0 < e < 0.5]
-    logs = [(d0, d1) for d0, d1 in logs if 0.0 < d0 < d1]
+    logs = [e for e in logs if 0.0 < e[0] < e[1]]
     total = _cumulative(np.array(1.0), scales, logs, walls, log_weight)
     target = np.linspace(0.0, 1.0, n + 1) * total
     lo = np.zeros(n + 1)
@@ -75,7 +79,7 @@ def graded(n, scales=(), walls=(True, True), logs=(), log_weight=0.0):
 def monitor_mass(scales=(), walls=(True, True), logs=(), log_weight=0.0):
     """Total mass of the monitor function: nodes scale with it at fixed density."""
     scales = [e for e in np.atleast_1d(scales) if 0.0 < e < 0.5]
-    logs = [(d0, d1) for d0, d1 in logs if 0.0 < d0 < d1]
+    logs = [e for e in logs if 0.0 < e[0] < e[1]]
     return float(_cumulative(np.array(1.0), scales, logs, walls, log_weight))
 
 

@@ -18,8 +18,10 @@ from ._mesh import Mesh, fan_block, graded, merge_blocks, monitor_mass, polar_bl
 __all__ = ["build_mesh", "wall_scales"]
 
 _MERGE_TOL = 1e-11
-#: Log-layer node weight per end, see :func:`wall_scales`.
+#: Log-layer node weight per end, see :func:`_nodes`.
 _LOG_WEIGHT = 0.5
+#: Node weight of the log spread along the angle of a polar block (see :func:`_nodes`).
+_FAN_WEIGHT = 0.3
 
 
 def wall_scales(length, lam, extra=()):
@@ -31,17 +33,21 @@ def wall_scales(length, lam, extra=()):
     return out
 
 
-def _nodes(n, length, lam, gouy, extra=(), walls=(True, True)):
+def _nodes(n, length, lam, gouy, extra=(), walls=(True, True), fan=False):
     """Graded nodes along one direction of ``length`` ending at ``walls``.
 
     ``n`` cells go to the smooth part; a strongly charged wall (``gouy``
-    given) adds cells in proportion to the monitor mass of its log layer,
-    about 8 per e-fold of distance at the default accuracy.
+    given) adds cells in proportion to the monitor mass of its log layer.
+    ``fan``: the direction is an angle of a polar block whose wall is a ray,
+    so the layer spans a fraction lam/(r angle) that grows toward the centre:
+    nodes are spread evenly in log(fraction) from lam/length up to 1/2.
     """
     scales = wall_scales(length, lam, extra)
     logs = []
     if gouy is not None and lam is not None:
         logs = [(gouy / length, lam / length)]
+    if fan and lam is not None and lam / length < 0.05:
+        logs.append((lam / length, 0.5, _FAN_WEIGHT))
     if not logs:
         return graded(n, scales, walls)
     base = monitor_mass(scales, walls)
@@ -124,7 +130,9 @@ def _trapezoid(dims, n, lam, gouy):
     extra_s = [depth] if depth < wide else []
     extra_t = [wide] if wide < depth else []
     ns = _cells(n, max(1.0, min(2.0, wide / depth)))
-    s = _nodes(ns, wide * cosa, lam, gouy, extra_s)
+    # a narrow end (a V-groove apex) makes the sidewalls rays of a fan: the layer
+    # then takes a growing fraction of the width toward that end
+    s = _nodes(ns, wide * cosa, lam, gouy, extra_s, fan=min(top, bottom) < 0.5 * wide)
     t = _nodes(n, depth, lam, gouy, extra_t)
     y = t * depth
     half = 0.5 * (bottom + (top - bottom) * t)
@@ -141,7 +149,7 @@ def _etch(dims, n, lam, gouy):
     r[0], r[-1] = 0.0, d
     arc_len = 0.5 * np.pi * d
     nth = _cells(n, 0.875)
-    th = _nodes(nth, arc_len, lam, gouy, walls=(False, True))   # wall at theta = 0
+    th = _nodes(nth, arc_len, lam, gouy, walls=(False, True), fan=True)   # wall at theta = 0
     theta = -0.5 * np.pi * (1.0 - th)
     blocks = []
     for sgn in (1.0, -1.0):

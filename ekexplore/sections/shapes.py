@@ -306,6 +306,13 @@ class Trapezoid(_Section):
 
     def _point_geometry(self, t, b, d):
         L = self._inradius(t, b, d)
+        if min(t, b) <= 0.0:
+            # a V-groove is a triangle: the fan mesh of a polygon resolves its
+            # apex better than a collapsed tensor grid
+            V = self._outline(t, b, d)
+            V = V[[0, 2, 3]] if b <= 0.0 else V[[0, 1, 2]]
+            c, _ = _chebyshev_centre(V)
+            return "polygon", tuple(float(v) / L for v in np.concatenate([c, V.ravel()])), L
         return "trapezoid", _dims(t, b, d, L=L), L
 
 
