@@ -257,7 +257,9 @@ def _pb(b, m, accuracy=1e-6):
             f"{phi_est[k] * b['VT'][k]:.3g} V, beyond the solver range |z e zeta/kT| <= "
             f"{PB_PHI_MAX:g}; lower the charge, widen the channel or raise the concentration")
     x0 = _inner_scale(b, m, phi_est)
-    need = np.maximum(PB_MIN_CELLS, np.ceil(np.log1p(1.0 / x0) / PB_DXI))
+    # Richardson-extrapolated error goes as dxi^4: 5e-7 at the default spacing
+    dxi = float(np.clip(PB_DXI * (accuracy / 1e-6)**0.25, 0.03, 0.3))
+    need = np.maximum(PB_MIN_CELLS, np.ceil(np.log1p(1.0 / x0) / dxi))
     # grid sizes come in steps of sqrt(2), so a point's grid depends on itself only
     steps = np.ceil(2.0 * np.log2(need / PB_MIN_CELLS))
     level = np.round(PB_MIN_CELLS * 2.0 ** (steps / 2.0)).astype(int)
@@ -383,10 +385,12 @@ def transport_1d(m, half_size, cond, model, options):
         chosen = np.full(b["B"], model)
         est = None
     parts = {}
+    accuracy = options.get("accuracy") or 1e-6
     for name, fn in (("thin", _thin), ("dh", _dh), ("pb", _pb)):
         idx = np.flatnonzero(chosen == name)
         if idx.size:
-            parts[name] = (idx, fn(_subset(b, idx), m))
+            args = (accuracy,) if name == "pb" else ()
+            parts[name] = (idx, fn(_subset(b, idx), m, *args))
     keys = ("L11", "L12", "L21", "L22_migration", "L22_convection", "wall_potential",
             "wall_charge", "error")
     out = {k: np.empty(b["B"]) for k in keys}
