@@ -75,3 +75,19 @@ def test_dask_local_cluster_is_identical_to_serial():
 def test_sweep_rejects_bad_designs(kwargs, match):
     with pytest.raises(ValueError, match=match):
         ek.sweep(**kwargs)
+
+
+def test_sections_sweep_one_design_per_task_matches_solve():
+    # 2D sections go one design per task; the table matches single solves.
+    grid = {"width": [300e-9, 1e-6], "depth": [100e-9], "concentration": [1.0, 10.0]}
+    serial = ek.sweep(grid=grid, shape="Rectangle", zeta=-0.05, progress=False)
+    assert len(serial) == 4
+    with ProcessPoolExecutor(max_workers=2) as pool:
+        parallel = ek.sweep(grid=grid, shape="Rectangle", zeta=-0.05, executor=pool,
+                            progress=False)
+    assert_same_table(serial, parallel)
+    row = serial.iloc[3]
+    r = ek.solve(ek.Rectangle(width=row["width"], depth=row["depth"]),
+                 ek.Electrolyte.salt("KCl", row["concentration"]), ek.Wall(zeta=-0.05))
+    assert_allclose(row["electroosmotic"], float(r.electroosmotic), rtol=1e-12)
+    assert row["model"] == str(r.model)
