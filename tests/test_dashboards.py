@@ -255,3 +255,21 @@ def test_device_shows_the_cautions():
     text = " ".join(ch.value for ch in v.widget.children[1].children[1].children
                     if hasattr(ch, "value") and isinstance(ch.value, str))
     assert "can kill" in text and "pressure ratings" in text and "measurement" in text
+
+
+def test_explorer_near_wall_view_uses_wall_distance():
+    v = ExplorerView(State(size=100e-6))          # kappa*a ~ 5000: layers invisible on a linear axis
+    data = v.sources["potential"].data
+    ref = reference(gap=100e-6).profiles()
+    # w is the distance from the wall in the plotted unit (um here), NaN at the wall itself
+    w = np.asarray(data["w"])
+    k = 1e6
+    expected = np.asarray(ref.wall_distance) * k
+    ok = expected > 0
+    assert_allclose(w[ok], expected[ok], rtol=1e-9)
+    assert np.all(np.isnan(w[~ok]))
+    assert v.grids["across"].visible and not v.grids["wall"].visible
+    v.profile_view.value = "wall"
+    assert v.grids["wall"].visible and not v.grids["across"].visible
+    spans = [s.location for view, s in v.debye_spans if view == "wall"]
+    assert_allclose(spans, float(ref.debye_length) * k, rtol=1e-12)

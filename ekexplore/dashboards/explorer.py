@@ -62,7 +62,7 @@ class ExplorerView:
 
     def __init__(self, state: State | None = None):
         from bokeh.layouts import gridplot
-        from bokeh.models import ColumnDataSource, Label, Span
+        from bokeh.models import ColumnDataSource
 
         self.state = state if state is not None else State()
         self.controls = SetupControls(self.state)
@@ -84,55 +84,33 @@ class ExplorerView:
         self._signature = None
 
         # ---- data: one source per figure, replaced in one assignment ----
+        # x: position as plotted across the channel; w: distance from the wall
+        # (positive, for the log "near the wall" view)
         self.sources = {
-            "potential": ColumnDataSource(dict(x=[], y=[])),
-            "concentrations": ColumnDataSource(dict(xs=[], ys=[], color=[], name=[])),
-            "charge": ColumnDataSource(dict(x=[], y=[])),
-            "velocity": ColumnDataSource(dict(x=[], pressure=[], eo=[])),
-            "current": ColumnDataSource(dict(x=[], migration=[], convective=[])),
+            "potential": ColumnDataSource(dict(x=[], w=[], y=[])),
+            "concentrations": ColumnDataSource(dict(xs=[], ws=[], ys=[], color=[], name=[])),
+            "charge": ColumnDataSource(dict(x=[], w=[], y=[])),
+            "velocity": ColumnDataSource(dict(x=[], w=[], pressure=[], eo=[])),
+            "current": ColumnDataSource(dict(x=[], w=[], migration=[], convective=[])),
         }
         for key, src in self.sources.items():
             src.name = f"ekx-{key}"   # found by name in the page (browser tests)
-        S = self.sources
-        fw, fh = 290, 190
-        f_phi = new_figure(fw, fh, "potential", "", "potential [mV]")
-        f_phi.line("x", "y", source=S["potential"], color=PALETTE[0], line_width=2)
-        f_c = new_figure(fw, fh, "ion concentrations", "", "concentration [mM]", y_log=True)
-        f_c.multi_line("xs", "ys", source=S["concentrations"], color="color", line_width=2,
-                       legend_field="name")
-        f_rho = new_figure(fw, fh, "space charge density", "", "charge density [C/m³]")
-        f_rho.line("x", "y", source=S["charge"], color=PALETTE[3], line_width=2)
-        f_u = new_figure(fw, fh, "axial velocity", "", "velocity [m/s]")
-        f_u.line("x", "pressure", source=S["velocity"], color=PALETTE[0], line_width=2,
-                 legend_label="pressure-driven")
-        f_u.line("x", "eo", source=S["velocity"], color=PALETTE[1], line_width=2,
-                 line_dash="dashed", legend_label="electroosmotic")
-        f_j = new_figure(fw, fh, "axial current density", "", "current density [A/m²]")
-        f_j.line("x", "migration", source=S["current"], color=PALETTE[2], line_width=2,
-                 legend_label="migration")
-        f_j.line("x", "convective", source=S["current"], color=PALETTE[4], line_width=2,
-                 line_dash="dashed", legend_label="convective")
-        self.figures = [f_phi, f_c, f_rho, f_u, f_j]
-        self.debye_spans = []
-        self.debye_labels = []
-        for f in self.figures:
-            span = Span(location=0, dimension="height", line_color="#555555",
-                        line_dash="dotted", line_width=1.5)
-            f.add_layout(span)
-            self.debye_spans.append(span)
-            lab = Label(x=0, y=5, x_units="data", y_units="screen", text="λ_D",
-                        text_font_size="10px", text_color="#444444")
-            f.add_layout(lab)
-            self.debye_labels.append(lab)
-        for f in (f_c, f_u, f_j):
-            f.legend.label_text_font_size = "10px"
-            f.legend.background_fill_alpha = 0.6
-            f.legend.location = "top_left"
-            f.legend.padding = 2
-            f.legend.spacing = 0
+        self.figures, self._figure_views, self.debye_spans, self.debye_labels = [], [], [], []
+        self.grids = {}
+        for view in ("across", "wall"):
+            figs = self._profile_figures(view)
+            self.grids[view] = gridplot([[figs[0], figs[1], figs[2]], [figs[3], figs[4], None]],
+                                        toolbar_location="right", merge_tools=True)
+        self.grids["wall"].visible = False
+        self.profile_view = w.ToggleButtons(
+            options=[("across the channel", "across"), ("near the wall (log)", "wall")],
+            value="across", style={"button_width": "150px"},
+            tooltips=["linear position across the section",
+                      "log distance from the wall: resolves thin double layers"])
+        self.profile_view.observe(self._switch_profiles, "value")
         self.note = w.HTML()
-        self._grid = gridplot([[f_phi, f_c, f_rho], [f_u, f_j, None]],
-                              toolbar_location="right", merge_tools=True)
+        from bokeh.layouts import column
+        self._grid = column(self.grids["across"], self.grids["wall"])
         self.field_note = w.HTML(self.NOTE_1D)
         self.field_box = w.VBox([self.field_note])
         self._build_field_figures()
@@ -140,7 +118,8 @@ class ExplorerView:
         self.state.observe(self._changed)
         self.update(sync=True)   # fill the sources before BokehJS first renders them
         self.plots = bokeh_widget(self._grid)
-        self.tabs = w.Tab(children=[w.VBox([self.note, self.plots]), self.field_box,
+        self.tabs = w.Tab(children=[w.VBox([w.HBox([self.profile_view]), self.note,
+                                            self.plots]), self.field_box,
                                     self.derived,
                                     w.VBox([w.HBox([self.code_button, self.downloads]),
                                             self.code_box])])
@@ -153,6 +132,61 @@ class ExplorerView:
                        layout=w.Layout(flex="1 1 auto", max_width="940px", min_width="0",
                                         overflow="auto"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
+
+    def _profile_figures(self, view):
+        """The five profile figures of one view ("across" linear, "wall" log)."""
+        from bokeh.models import Label, Span
+        S = self.sources
+        log = view == "wall"
+        xc = "w" if log else "x"
+        fw, fh = 290, 190
+
+        def fig(title, ylab, y_log=False):
+            return new_figure(fw, fh, title, "", ylab, x_log=log, y_log=y_log)
+
+        f_phi = fig("potential", "potential [mV]")
+        f_phi.line(xc, "y", source=S["potential"], color=PALETTE[0], line_width=2)
+        f_c = fig("ion concentrations", "concentration [mM]", y_log=True)
+        f_c.multi_line("ws" if log else "xs", "ys", source=S["concentrations"], color="color",
+                       line_width=2, legend_field="name")
+        f_rho = fig("space charge density", "charge density [C/m³]")
+        f_rho.line(xc, "y", source=S["charge"], color=PALETTE[3], line_width=2)
+        f_u = fig("axial velocity", "velocity [m/s]")
+        f_u.line(xc, "pressure", source=S["velocity"], color=PALETTE[0], line_width=2,
+                 legend_label="pressure-driven")
+        f_u.line(xc, "eo", source=S["velocity"], color=PALETTE[1], line_width=2,
+                 line_dash="dashed", legend_label="electroosmotic")
+        f_j = fig("axial current density", "current density [A/m²]")
+        f_j.line(xc, "migration", source=S["current"], color=PALETTE[2], line_width=2,
+                 legend_label="migration")
+        f_j.line(xc, "convective", source=S["current"], color=PALETTE[4], line_width=2,
+                 line_dash="dashed", legend_label="convective")
+        figs = [f_phi, f_c, f_rho, f_u, f_j]
+        for f in figs:
+            span = Span(location=1 if log else 0, dimension="height", line_color="#555555",
+                        line_dash="dotted", line_width=1.5)
+            f.add_layout(span)
+            lab = Label(x=1 if log else 0, y=5, x_units="data", y_units="screen",
+                        text="λ_D", text_font_size="10px", text_color="#444444")
+            f.add_layout(lab)
+            self.debye_spans.append((view, span))
+            self.debye_labels.append((view, lab))
+        for f in (f_c, f_u, f_j):
+            f.legend.label_text_font_size = "10px"
+            f.legend.background_fill_alpha = 0.6
+            f.legend.location = "top_right" if log else "top_left"
+            f.legend.padding = 2
+            f.legend.spacing = 0
+        self.figures.extend(figs)
+        self._figure_views.extend([view] * len(figs))
+        return figs
+
+    def figures_of(self, view):
+        return [f for v, f in zip(self._figure_views, self.figures) if v == view]
+
+    def _switch_profiles(self, change):
+        self.grids["across"].visible = change["new"] == "across"
+        self.grids["wall"].visible = change["new"] == "wall"
 
     # ---- wiring ----------------------------------------------------------------
     def _changed(self, change):
@@ -207,37 +241,45 @@ class ExplorerView:
         c = ex.curves
         k, unit = length_unit(max(float(np.max(np.abs(c.x))), c.debye_length))
         x = c.x * k
-        xlabel = f"{c.label} [{unit}]"
-        for f in self.figures:
-            f.xaxis.axis_label = xlabel
+        wd = (c.x - c.wall) if c.from_wall else (c.wall - c.x)
+        wd = np.where(wd > 0, wd * k, np.nan)          # log axis: the wall itself is off
+        for f in self.figures_of("across"):
+            f.xaxis.axis_label = f"{c.label} [{unit}]"
+        for f in self.figures_of("wall"):
+            f.xaxis.axis_label = f"distance from the wall [{unit}]"
         lam = c.debye_length
         loc = (c.wall + lam) * k if c.from_wall else (c.wall - lam) * k
         inside = 0 <= loc <= float(np.max(x))
-        for span, lab in zip(self.debye_spans, self.debye_labels):
-            span.location = loc
-            span.visible = inside
-            lab.x = loc
-            lab.visible = inside
+        for (view, span), (_, lab) in zip(self.debye_spans, self.debye_labels):
+            where_x = loc if view == "across" else lam * k
+            span.location = where_x
+            lab.x = where_x
+            span.visible = lab.visible = inside if view == "across" else True
         S = self.sources
-        S["potential"].data = dict(x=x, y=c.potential * 1e3)
+        S["potential"].data = dict(x=x, w=wd, y=c.potential * 1e3)
         S["concentrations"].data = dict(
-            xs=[x] * len(c.ion_names), ys=[np.maximum(ci, 1e-30) for ci in c.concentrations],
+            xs=[x] * len(c.ion_names), ws=[wd] * len(c.ion_names),
+            ys=[np.maximum(ci, 1e-30) for ci in c.concentrations],
             color=[PALETTE[i % len(PALETTE)] for i in range(len(c.ion_names))],
             name=list(c.ion_names))
         f, pre = prefix_scale(np.nanmax(np.abs(c.charge_density)))
-        self.figures[2].yaxis.axis_label = f"charge density [{pre}C/m³]"
-        S["charge"].data = dict(x=x, y=c.charge_density * f)
+        for fig in (self.figures_of("across")[2], self.figures_of("wall")[2]):
+            fig.yaxis.axis_label = f"charge density [{pre}C/m³]"
+        S["charge"].data = dict(x=x, w=wd, y=c.charge_density * f)
         up, ue = c.velocity_pressure, c.velocity_electroosmotic
         f, pre = prefix_scale(max(np.nanmax(np.abs(up)), np.nanmax(np.abs(ue))))
-        self.figures[3].yaxis.axis_label = f"velocity [{pre}m/s]"
-        S["velocity"].data = dict(x=x, pressure=up * f, eo=ue * f)
+        for fig in (self.figures_of("across")[3], self.figures_of("wall")[3]):
+            fig.yaxis.axis_label = f"velocity [{pre}m/s]"
+        S["velocity"].data = dict(x=x, w=wd, pressure=up * f, eo=ue * f)
         jm, jc = c.current_migration, c.current_convective
         f, pre = prefix_scale(max(np.nanmax(np.abs(jm)), np.nanmax(np.abs(jc))))
-        self.figures[4].yaxis.axis_label = f"current density [{pre}A/m²]"
-        S["current"].data = dict(x=x, migration=jm * f, convective=jc * f)
+        for fig in (self.figures_of("across")[4], self.figures_of("wall")[4]):
+            fig.yaxis.axis_label = f"current density [{pre}A/m²]"
+        S["current"].data = dict(x=x, w=wd, migration=jm * f, convective=jc * f)
         where = ("λ_D = " + eng(lam, "m") + " from the wall (dotted line)" if inside else
                  "λ_D = " + eng(lam, "m") + " is larger than the distance to the centre")
-        side = "Wall at the left edge" if c.from_wall else "Wall at the right edge"
+        side = ("Across view: wall at the left edge" if c.from_wall else
+                "Across view: wall at the right edge")
         self.note.value = (
             f"<div class='ekx-small'>{side}. Driving: "
             f"Δp = {num(st.pressure_drop / 1e3)} kPa and ΔV = {num(st.voltage)} V over "

@@ -146,6 +146,11 @@ def test_explorer_slider_changes_matrix_and_plot(server, browser, artifacts, cap
         p.page.wait_for_timeout(500)
         p.page.screenshot(path=str(artifacts / "explorer-after-slider.png"))
         _assert_clean(p)
+        # the near-wall view with a log distance axis
+        p.page.get_by_text("near the wall (log)", exact=True).click()
+        p.page.wait_for_timeout(800)
+        p.page.screenshot(path=str(artifacts / "explorer-near-wall.png"))
+        _assert_clean(p)
         # a bad input shows the message and no traceback
         stern = p.page.locator(".widget-text", has=p.page.locator(
             ".widget-label", has_text="Stern")).locator("input")
