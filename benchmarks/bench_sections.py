@@ -93,9 +93,45 @@ def bench_accuracy():
                   f"(reported error {float(a.error_estimate):.1e})")
 
 
+def bench_scaling(quick):
+    """B4: time and error of one pb solve against the number of unknowns, per shape,
+    with the fitted exponent of time ~ unknowns^p (kappa * half-size = 10, zeta = -3 kT/e)."""
+    w = np.array([0.5, -0.5])
+    z = np.array([1.0, -1.0])
+    levels = (16, 32, 64) if quick else (16, 32, 64, 128, 224)
+    print("\nB4  pb solve time and error against unknowns (kappa*half-size 10, zeta -3 kT/e)")
+    print(f"{'shape':28s} {'cells':>5s} {'unknowns':>9s} {'time [s]':>9s} {'|<d>/ref - 1|':>14s}")
+    fits = []
+    for name, ch in shapes():
+        kind, dims, L = ch._point_geometry(*(v[0] for v in ch._values(())))
+        half = float(ch.half_size) / L
+        lam = half / 10.0
+        kl2 = (1.0 / lam)**2
+        rows = []
+        for n in levels:
+            mesh = build_mesh(kind, dims, n, lam)
+            mesh.lu_dirichlet  # the flow factorisation is cached per mesh: not timed
+            t, r = _time(lambda: scaled_solution(mesh, kl2, w, z, "potential", -3.0, "pb"),
+                         1 if quick else 2)
+            rows.append((n, len(mesh.interior), t, r["l12"]))
+        # reference: Richardson extrapolation of the two finest levels (2nd order)
+        ref = (4.0 * rows[-1][3] - rows[-2][3]) / 3.0 if levels[-1] == 2 * levels[-2] else \
+            rows[-1][3] + (rows[-1][3] - rows[-2][3]) / ((levels[-1] / levels[-2])**2 - 1)
+        for n, nu, t, l12 in rows:
+            print(f"{name:28s} {n:5d} {nu:9d} {t:9.3f} {abs(l12 / ref - 1):14.1e}")
+        big = [(nu, t) for _, nu, t, _ in rows if nu >= 1000]
+        if len(big) >= 2:
+            p = np.polyfit(np.log([b[0] for b in big]), np.log([b[1] for b in big]), 1)[0]
+            fits.append((name, p, rows[-1][1], rows[-1][2]))
+    for name, p, nu, t in fits:
+        print(f"  {name:28s} time ~ unknowns^{p:.2f}; {nu} unknowns in {t:.2f} s (target: "
+              f"1e5 unknowns <= 2 s)")
+
+
 def main(quick=False):
     bench_default(quick)
     bench_large(quick)
+    bench_scaling(quick)
     bench_accuracy()
 
 
