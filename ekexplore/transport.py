@@ -261,7 +261,9 @@ class Result:
         the bulk (the convection of the neutral bulk carries no net current);
         the Stern conduction counts as counter-ion current. At zero wall
         potential, cations are counted, which gives their bulk transference
-        number.
+        number. Between 0 and 1 for the pb and dh models; the slip model's
+        flat-wall co-ion depletion can exceed the bulk below kappa*a of about
+        2, outside its range, and then gives shares above 1.
         """
         z = self._cond.z_b()
         sgn = np.sign(self.wall_potential)
