@@ -322,6 +322,13 @@ class _Server:
              "--cull-interval", "30"],
             stdout=subprocess.PIPE, stderr=self.log, text=True, start_new_session=True,
             cwd=ROOT)
+        try:
+            self._wait_ready(timeout)
+        except BaseException:
+            self._kill()     # never leave a server behind; its log is kept
+            raise
+
+    def _wait_ready(self, timeout):
         self.base = None
         deadline = time.monotonic() + timeout
         lines = []
@@ -348,6 +355,11 @@ class _Server:
         raise RuntimeError(f"server did not answer at {probe} (log: {self.log.name})")
 
     def stop(self):
+        """Kill the server and remove its log."""
+        self._kill()
+        os.unlink(self.log.name)
+
+    def _kill(self):
         if self.proc.poll() is None:
             os.killpg(self.proc.pid, signal.SIGINT)
             try:
