@@ -83,3 +83,19 @@ def test_device_section():
     c = r.conductances(st.length)
     Q = float(c["flow_per_pressure"] * st.pressure_drop + c["flow_per_volt"] * 100.0)
     assert_allclose(v.last.flow, Q, rtol=RTOL)
+
+
+def test_explorer_section_updates_again_and_again():
+    # A second and third change on a 2D section must update the field images too
+    # (the field figures are re-shown in a fresh widget each time).
+    v = ExplorerView(State(shape="Rectangle", concentration=1.0))
+    v.worker.wait(600)
+    assert v.status.kind == "ok", v.status.message
+    for c in (1.5, 2.0):
+        before = v.field_sources["potential"].data["image"][0].copy()
+        v.controls.concentration.value = c          # what the slider does
+        v.worker.wait(600)
+        assert v.status.kind == "ok", v.status.message
+        after = v.field_sources["potential"].data["image"][0]
+        assert not np.allclose(np.nan_to_num(before), np.nan_to_num(after))
+        assert v.field_widget in v.field_box.children

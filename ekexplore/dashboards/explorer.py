@@ -371,6 +371,11 @@ class ExplorerView:
         # a fresh widget each time, so the page gets the new data even if the tab
         # has not been shown yet
         if self.field_widget is not None:
+            # bokeh models belong to one document: release them from the old one
+            layout = self._field_layout
+            if layout.document is not None:
+                layout.document.remove_root(layout)
             self.field_widget.close()
-        self.field_widget = bokeh_widget(column(row(*self.field_figures), self.centre_figure))
+        self._field_layout = column(row(*self.field_figures), self.centre_figure)
+        self.field_widget = bokeh_widget(self._field_layout)
         self.field_box.children = [self.field_note, self.field_widget]
