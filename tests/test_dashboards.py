@@ -271,5 +271,5 @@ def test_explorer_near_wall_view_uses_wall_distance():
     assert v.grids["across"].visible and not v.grids["wall"].visible
     v.profile_view.value = "wall"
     assert v.grids["wall"].visible and not v.grids["across"].visible
-    spans = [s.location for view, s in v.debye_spans if view == "wall"]
+    spans = v.debye_markers["wall"].data["x"]
     assert_allclose(spans, float(ref.debye_length) * k, rtol=1e-12)

@@ -95,7 +95,7 @@ class ExplorerView:
         }
         for key, src in self.sources.items():
             src.name = f"ekx-{key}"   # found by name in the page (browser tests)
-        self.figures, self._figure_views, self.debye_spans, self.debye_labels = [], [], [], []
+        self.figures, self._figure_views, self.debye_markers = [], [], {}
         self.grids = {}
         for view in ("across", "wall"):
             figs = self._profile_figures(view)
@@ -135,7 +135,7 @@ class ExplorerView:
 
     def _profile_figures(self, view):
         """The five profile figures of one view ("across" linear, "wall" log)."""
-        from bokeh.models import Label, Span
+        from bokeh.models import ColumnDataSource, LabelSet
         S = self.sources
         log = view == "wall"
         xc = "w" if log else "x"
@@ -162,15 +162,16 @@ class ExplorerView:
         f_j.line(xc, "convective", source=S["current"], color=PALETTE[4], line_width=2,
                  line_dash="dashed", legend_label="convective")
         figs = [f_phi, f_c, f_rho, f_u, f_j]
+        # the Debye-length marker of all five figures is one data source per view,
+        # so an update moves it with a single message
+        marker = ColumnDataSource(dict(x=[1.0 if log else 0.0], text=["λ_D"]))
+        marker.name = f"ekx-debye-marker-{view}"
+        self.debye_markers[view] = marker
         for f in figs:
-            span = Span(location=1 if log else 0, dimension="height", line_color="#555555",
-                        line_dash="dotted", line_width=1.5)
-            f.add_layout(span)
-            lab = Label(x=1 if log else 0, y=5, x_units="data", y_units="screen",
-                        text="λ_D", text_font_size="10px", text_color="#444444")
-            f.add_layout(lab)
-            self.debye_spans.append((view, span))
-            self.debye_labels.append((view, lab))
+            f.vspan(x="x", source=marker, line_color="#555555", line_dash="dotted",
+                    line_width=1.5)
+            f.add_layout(LabelSet(x="x", y=5, y_units="screen", text="text", source=marker,
+                                  text_font_size="10px", text_color="#444444"))
         for f in (f_c, f_u, f_j):
             f.legend.label_text_font_size = "10px"
             f.legend.background_fill_alpha = 0.6
@@ -250,11 +251,9 @@ class ExplorerView:
         lam = c.debye_length
         loc = (c.wall + lam) * k if c.from_wall else (c.wall - lam) * k
         inside = 0 <= loc <= float(np.max(x))
-        for (view, span), (_, lab) in zip(self.debye_spans, self.debye_labels):
-            where_x = loc if view == "across" else lam * k
-            span.location = where_x
-            lab.x = where_x
-            span.visible = lab.visible = inside if view == "across" else True
+        self.debye_markers["across"].data = (dict(x=[loc], text=["λ_D"]) if inside
+                                             else dict(x=[], text=[]))
+        self.debye_markers["wall"].data = dict(x=[lam * k], text=["λ_D"])
         S = self.sources
         S["potential"].data = dict(x=x, w=wd, y=c.potential * 1e3)
         S["concentrations"].data = dict(
