@@ -18,6 +18,10 @@ _FIELDS = ("potential", "charge_density", "velocity_pressure", "velocity_electro
            "current_migration", "current_convective")
 
 
+#: (mesh, query points) digest -> (triangle index, barycentric weights); small FIFO.
+_LOCATE_CACHE: dict = {}
+
+
 class SectionProfiles:
     """Fields of one parameter point at the nodes of the section's mesh.
 
@@ -78,7 +82,26 @@ class SectionProfiles:
 
     # -- interpolation -------------------------------------------------------------
     def _locate(self, q):
-        """Triangle index and barycentric weights of points q (nq, 2); -1 outside."""
+        """Triangle index and barycentric weights of points q (nq, 2); -1 outside.
+
+        Remembered for the last few (mesh, query) pairs: a dashboard asks for the
+        same image grid on the same cached mesh at every update.
+        """
+        import hashlib
+        h = hashlib.blake2b(digest_size=16)
+        for a in (self.x, self.y, self.triangles, q):
+            h.update(np.ascontiguousarray(a).tobytes())
+        key = h.hexdigest()
+        hit = _LOCATE_CACHE.get(key)
+        if hit is not None:
+            return hit
+        out = self._locate_uncached(q)
+        _LOCATE_CACHE[key] = out
+        while len(_LOCATE_CACHE) > 16:
+            _LOCATE_CACHE.pop(next(iter(_LOCATE_CACHE)))
+        return out
+
+    def _locate_uncached(self, q):
         P = np.stack([self.x, self.y], 1)
         T = self.triangles
         if self._tree is None:
