@@ -5,7 +5,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-__all__ = ["Profiles", "UNITS"]
+__all__ = ["Profiles", "UNITS", "FieldTotals"]
 
 #: Unit of every field a Profiles object holds.
 UNITS = {
@@ -15,8 +15,22 @@ UNITS = {
 }
 
 
+class FieldTotals:
+    """Totals shared by the 1D profiles and the 2D section fields."""
+
+    @property
+    def velocity(self):
+        """Total axial velocity [m/s]."""
+        return self.velocity_pressure + self.velocity_electroosmotic
+
+    @property
+    def current_density(self):
+        """Total axial current density [A/m²]."""
+        return self.current_migration + self.current_convective
+
+
 @dataclass(frozen=True)
-class Profiles:
+class Profiles(FieldTotals):
     """Profiles across a slit (from the mid-plane) or a tube (from the axis).
 
     Every field has shape ``(*shape, n)`` for a batch of parameter points of
@@ -44,16 +58,6 @@ class Profiles:
     field: float
     coordinate_name: str = "y"
     units: dict = field(default_factory=lambda: dict(UNITS))
-
-    @property
-    def velocity(self):
-        """Total axial velocity [m/s]."""
-        return self.velocity_pressure + self.velocity_electroosmotic
-
-    @property
-    def current_density(self):
-        """Total axial current density [A/m²]."""
-        return self.current_migration + self.current_convective
 
     @classmethod
     def from_1d(cls, m, grid, phi, b, models, cond, pressure_gradient, field):

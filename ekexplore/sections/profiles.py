@@ -5,6 +5,7 @@ import numpy as np
 from scipy.spatial import cKDTree
 
 from .._state import F
+from ..profiles import FieldTotals
 
 __all__ = ["SectionProfiles", "UNITS", "section_profiles_factory"]
 
@@ -22,7 +23,7 @@ _FIELDS = ("potential", "charge_density", "velocity_pressure", "velocity_electro
 _LOCATE_CACHE: dict = {}
 
 
-class SectionProfiles:
+class SectionProfiles(FieldTotals):
     """Fields of one parameter point at the nodes of the section's mesh.
 
     Attributes
@@ -58,16 +59,6 @@ class SectionProfiles:
         self._wall_edges = wall_edges
         self.units = dict(UNITS)
         self._tree = None
-
-    @property
-    def velocity(self):
-        """Total axial velocity [m/s]."""
-        return self.velocity_pressure + self.velocity_electroosmotic
-
-    @property
-    def current_density(self):
-        """Total axial current density [A/m^2]."""
-        return self.current_migration + self.current_convective
 
     def as_arrays(self):
         """Dict name -> nodal array (units in :attr:`units`; totals ``velocity``
