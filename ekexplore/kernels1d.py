@@ -19,7 +19,7 @@ from scipy import special
 
 from ._state import F, R as R_GAS
 from .doublelayer import make_grid, solve_pb, donnan_potential, PB_PHI_MAX
-from .wall import flat_layer_integrals
+from .wall import flat_layer_integrals, osmotic_root_inverse
 from .profiles import Profiles
 
 __all__ = ["transport_1d", "MODELS", "wall_potential_isolated", "dh_wall_potential"]
@@ -103,19 +103,12 @@ def dh_wall_potential(m, K, sigma_s):
 def wall_potential_isolated(z, w, K, sigma_s):
     """Scaled potential of an isolated flat wall (Grahame) for scaled charge sigma_s.
 
-    Solves (sigma_s/K)^2 = 2 sum_j w_j (exp(-z_j phi) - 1) by bisection.
+    Solves (sigma_s/K)^2 = 2 sum_j w_j (exp(-z_j phi) - 1) with the bisection of
+    :func:`ekexplore.wall.osmotic_root_inverse`.
     """
-    target = (sigma_s / K)**2
-    sgn = np.sign(sigma_s)
-    lo = np.zeros_like(target)
-    hi = np.full_like(target, 2.0 * PB_PHI_MAX / np.max(np.abs(z)))
-    for _ in range(100):
-        mid = 0.5 * (lo + hi)
-        val = 2.0 * np.sum(w * np.expm1(-z[:, None] * (sgn * mid)[None]), axis=0)
-        above = val > target
-        hi = np.where(above, mid, hi)
-        lo = np.where(above, lo, mid)
-    return sgn * 0.5 * (lo + hi)
+    target = np.abs(sigma_s / K) / np.sqrt(2.0)
+    return osmotic_root_inverse(np.asarray(z, dtype=float)[:, None], w, target,
+                                np.sign(sigma_s))
 
 
 # --------------------------------------------------------------------------

@@ -9,7 +9,7 @@ import math
 import numpy as np
 from scipy import constants
 
-from ._validate import check_nonnegative, check_range
+from ._validate import check_range
 
 __all__ = ["Wall", "ZETA_MAX", "grahame_charge", "grahame_potential", "flat_layer_integrals",
            "diffuse_layer_conductance", "bikerman_conductance"]
@@ -239,19 +239,29 @@ def grahame_potential(electrolyte, charge_density):
     target = np.broadcast_to(np.abs(sigma) / np.sqrt(2 * eps * constants.k * T * constants.N_A),
                              shape)
     sgn = np.broadcast_to(np.sign(sigma), shape)
-    zmin = np.min(np.abs(z))
-    # bisection on log|phi| over the bracket [1e-300, 200/zmin], so that tiny
-    # charges keep their relative accuracy; 110 halvings of the log-ratio (about
-    # 700) reach machine precision with a wide margin
+    return osmotic_root_inverse(z, c, target, sgn) * _thermal_voltage(T)
+
+
+def osmotic_root_inverse(z, c, target, sign):
+    """Scaled wall potential phi with sqrt(sum_i c_i (e^{-z_i phi} - 1)) = target.
+
+    Array-level core of :func:`grahame_potential` (also used by the kernels on
+    scaled weights): ``z`` (n, 1...) aligned with ``c`` (n, ...), ``target`` and
+    ``sign`` (the sign of phi) broadcast against ``c[0]``. Bisection on log|phi|
+    over [1e-300, 200/min|z|], so that tiny charges keep their relative accuracy;
+    110 halvings of the log-ratio (about 700) reach machine precision.
+    """
+    shape = np.broadcast_shapes(np.shape(target), np.shape(sign), np.shape(c)[1:])
+    target = np.broadcast_to(target, shape)
+    sgn = np.broadcast_to(sign, shape)
     lo = np.full(shape, 1e-300)
-    hi = np.full(shape, 200.0 / zmin)
+    hi = np.full(shape, 200.0 / np.min(np.abs(z)))
     for _ in range(110):
         mid = np.sqrt(lo) * np.sqrt(hi)
         above = _osmotic_root(z, c, sgn * mid) > target
         hi = np.where(above, mid, hi)
         lo = np.where(above, lo, mid)
-    phi = sgn * np.sqrt(lo) * np.sqrt(hi)
-    return phi * _thermal_voltage(T)
+    return sgn * np.sqrt(lo) * np.sqrt(hi)
 
 
 def flat_layer_integrals(z, c, phi_w):

@@ -13,7 +13,7 @@ import ekexplore as ek
 from .state import CUSTOM, SIZE_RANGE, State, listed_shapes, size_parameter
 
 __all__ = ["load_bokeh", "new_figure", "bokeh_widget", "PALETTE", "Status", "SetupControls",
-           "download_link", "section_title", "SAFETY_NOTE", "Worker", "error_text"]
+           "download_link", "section_title", "SAFETY_NOTE", "Worker", "ViewUpdates", "error_text"]
 
 #: Okabe & Ito (2008), "Color Universal Design", colour-blind-safe qualitative palette.
 PALETTE = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#000000",
@@ -337,6 +337,32 @@ class Worker:
         t = self.thread
         if t is not None:
             t.join(timeout)
+
+
+class ViewUpdates:
+    """Status handling shared by the views: a failed update shows its message and
+    keeps the last good plots; a good one shows them and says so."""
+
+    #: what stays on screen after a failure ("plots", "maps")
+    shown = "plots"
+
+    def _fail(self, exc):
+        self.error = error_text(exc)
+        self.status.error(self.error + f" — the {self.shown} show the last valid input.")
+
+    def _ok_text(self, result):
+        return "up to date"
+
+    def _done(self, out):
+        snap, result = out
+        try:
+            self._show(result, snap)
+        except Exception as exc:  # never a traceback on the dashboard
+            self._fail(exc)
+            return
+        self.error = None
+        self.last = result
+        self.status.ok(self._ok_text(result))
 
 
 def error_text(exc):

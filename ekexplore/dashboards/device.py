@@ -8,8 +8,8 @@ import ipywidgets as w
 import numpy as np
 
 from . import compute
-from .common import (CSS, PALETTE, SAFETY_NOTE, SetupControls, Status, Worker, bokeh_widget,
-                     error_text, new_figure)
+from .common import (CSS, PALETTE, SAFETY_NOTE, SetupControls, Status, ViewUpdates, Worker,
+                     bokeh_widget, new_figure)
 from .state import State
 from .units import eng, num
 
@@ -47,7 +47,7 @@ def readout_html(d, state):
             f"<table class='ekx-table'>{body}</table>")
 
 
-class DeviceView:
+class DeviceView(ViewUpdates):
     """Build the device calculator on a :class:`State`; ``.widget`` to display."""
 
     def __init__(self, state: State | None = None):
@@ -120,20 +120,6 @@ class DeviceView:
         self.worker.submit(lambda: (snap, compute.device(snap)), self._done, self._fail,
                            background=snap.is_section and not sync)
 
-    def _fail(self, exc):
-        self.error = error_text(exc)
-        self.status.error(self.error + " — the plots show the last valid input.")
-
-    def _done(self, out):
-        snap, d = out
-        try:
-            self._show(d, snap)
-        except Exception as exc:  # never a traceback on the dashboard
-            self._fail(exc)
-            return
-        self.error = None
-        self.last = d
-        self.status.ok("up to date")
 
     def _show(self, d, st):
         a = d.conductances["flow_per_pressure"]

@@ -8,8 +8,8 @@ import ipywidgets as w
 import numpy as np
 
 from . import compute
-from .common import (CSS, PALETTE, SetupControls, Status, Worker, bokeh_widget, download_link,
-                     error_text, new_figure)
+from .common import (CSS, PALETTE, SetupControls, Status, ViewUpdates, Worker, bokeh_widget,
+                     download_link, new_figure)
 from .state import State
 from .units import eng, length_unit, num, prefix_scale
 
@@ -57,7 +57,7 @@ def derived_html(rows):
             f"<th class='l'>meaning</th></tr>{body}</table>")
 
 
-class ExplorerView:
+class ExplorerView(ViewUpdates):
     """Build the explorer on a :class:`State`; ``.widget`` is what to display."""
 
     def __init__(self, state: State | None = None):
@@ -215,20 +215,8 @@ class ExplorerView:
         self.worker.submit(lambda: (snap, compute.explore(snap)), self._done, self._fail,
                            background=slow and not sync)
 
-    def _fail(self, exc):
-        self.error = error_text(exc)
-        self.status.error(self.error + " — the plots show the last valid input.")
-
-    def _done(self, out):
-        snap, ex = out
-        try:
-            self._show(ex, snap)
-        except Exception as exc:  # never a traceback on the dashboard
-            self._fail(exc)
-            return
-        self.error = None
-        self.last = ex
-        self.status.ok(f"up to date — model {ex.model}")
+    def _ok_text(self, ex):
+        return f"up to date — model {ex.model}"
 
     def _show(self, ex, st):
         self.verdict.value = f"<div class='ekx-verdict'>{html.escape(ex.verdict)}</div>"

@@ -9,7 +9,7 @@ import ipywidgets as w
 import numpy as np
 
 from . import compute
-from .common import CSS, SetupControls, Status, Worker, bokeh_widget, error_text, new_figure
+from .common import CSS, SetupControls, Status, ViewUpdates, Worker, bokeh_widget, new_figure
 from .state import CONCENTRATION_RANGE, SIZE_RANGE, State
 from .units import eng, num
 
@@ -22,8 +22,10 @@ def _clip(v, lo, hi):
     return float(min(max(v, lo), hi))
 
 
-class RegimesView:
+class RegimesView(ViewUpdates):
     """Build the regime maps on a :class:`State`; ``.widget`` is what to display."""
+
+    shown = "maps"
 
     def __init__(self, state: State | None = None, n=36):
         from bokeh.models import (ColorBar, ColumnDataSource, HoverTool, Label, LinearColorMapper,
@@ -180,9 +182,6 @@ class RegimesView:
         self.worker.submit(work, self._done, self._fail,
                            background=snap.is_section and not sync)
 
-    def _fail(self, exc):
-        self.error = error_text(exc)
-        self.status.error(self.error + " — the maps show the last valid input.")
 
     def _done(self, out):
         snap, ex, a, b, key_a, key_b = out
