@@ -274,6 +274,7 @@ class Surface:
         >>> Surface.silica().sites[0].charges
         (0, -1)
         """
+        pK = as_float_array("pK", pK)   # an array here is one pK per point, never a list of pKs
         return cls(Site(pK, site_density, charge=0, name="silanol"), stern_capacitance,
                    name="silica")
 
@@ -304,7 +305,8 @@ class Surface:
         >>> float(s.point_of_zero_charge)
         8.0
         """
-        return cls(Site((pK_plus, pK_minus), site_density, charge=1, name="amphoteric"),
+        pKs = (as_float_array("pK_plus", pK_plus), as_float_array("pK_minus", pK_minus))
+        return cls(Site(pKs, site_density, charge=1, name="amphoteric"),
                    stern_capacitance, name=name)
 
     @classmethod
@@ -413,6 +415,21 @@ class Surface:
             hi = np.where(above, hi, mid)
         pzc = 0.5 * (lo + hi)
         return np.where((f_lo > 0) & (f_hi < 0), pzc, np.nan)
+
+    def _flat(self, shape):
+        """A copy whose parameters are broadcast to ``shape`` and raveled: one
+        value per point of a flat batch (for the batched solvers)."""
+        def f(a):
+            return np.broadcast_to(a, shape).reshape(-1)
+        sites = tuple(Site(tuple(f(p) for p in s.pK), f(s.density), s.charge, s.name)
+                      for s in self._sites)
+        return Surface(sites, f(self._C), self._name)
+
+    def _take(self, idx):
+        """A copy of a flat surface (see :meth:`_flat`) at the batch indices ``idx``."""
+        sites = tuple(Site(tuple(p[idx] for p in s.pK), s.density[idx], s.charge, s.name)
+                      for s in self._sites)
+        return Surface(sites, self._C[idx], self._name)
 
     # -- the site charge ---------------------------------------------------------
     def _site_terms(self, phi0, pH):

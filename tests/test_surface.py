@@ -308,3 +308,165 @@ def test_bad_input_names_parameter_value_and_range(make, words):
     msg = str(info.value)
     for w in words:
         assert w in msg, (w, msg)
+
+
+# ---------------------------------------------------------------------------
+# overlapping double layers: regulated slit and tube
+# ---------------------------------------------------------------------------
+from scipy.integrate import solve_bvp  # noqa: E402
+
+from ekexplore._regulated import regulated_layer  # noqa: E402
+
+
+def bvp_regulated(m, R, electrolyte, sites, C, pH, T=298.15):
+    """Independent reference: the regulated Poisson-Boltzmann problem across a
+    slit (m = 0) or tube (m = 1) of half-size R, solved with scipy's
+    collocation solver solve_bvp in s = r/R (wall at s = 1):
+
+        phi'' + (m/s) phi' = -K^2 sum_i z_i w_i exp(-z_i phi),  phi'(0) = 0,
+        phi'(1) = sigma~(phi_0),  phi_0 = phi(1) + phi'(1)/c_s,
+
+    with phi = e psi/kT, K = kappa R, w_i = c_i/sum z^2 c, sigma~ = sigma R e/(eps kT),
+    c_s = C R/eps, and ``sites(phi_0, pH)`` the site charge [C/m^2] written
+    by the caller. Returns (zeta [V], sigma [C/m^2])."""
+    eps = eps_water(T)
+    VT = KB * T / E
+    z = np.array([i.valence for i in electrolyte.ions], dtype=float)
+    c = np.asarray(electrolyte.concentrations, dtype=float).ravel()
+    I = 0.5 * np.sum(z**2 * c)
+    kappa = np.sqrt(2 * E**2 * I * constants.N_A / (eps * KB * T))
+    K = kappa * R
+    w = c / np.sum(z**2 * c)
+    sc = R / (eps * VT)
+    cs = C * R / eps
+
+    def rhs(s, y):
+        rho = np.sum((z * w)[:, None] * np.exp(-z[:, None] * y[0][None]), axis=0)
+        return np.vstack([y[1], -K**2 * rho])
+
+    def bc(ya, yb):
+        return np.array([ya[1], yb[1] - sc * sites(yb[0] + yb[1] / cs, pH)])
+
+    # start: a Gouy-Chapman profile of -2 kT/e at the wall on a mesh graded
+    # toward it; solve_bvp refines the mesh to its tolerance
+    x0 = 0.02 * min(1.0, 1.0 / K)
+    x = x0 * np.expm1(np.log1p(1.0 / x0) * np.linspace(0, 1, 400))
+    s = np.unique(np.clip(1.0 - x, 0.0, 1.0))
+    t = np.tanh(-0.5) * np.exp(-K * (1 - s))
+    y0 = np.vstack([4 * np.arctanh(t), 2 * K * np.sinh(2 * np.arctanh(t))])
+    S = np.array([[0.0, 0.0], [0.0, -float(m)]]) if m else None
+    bc_tol = 1e-11 * max(abs(float(sites(-2.0, pH))) * sc, 1.0)
+    sol = solve_bvp(rhs, bc, s, y0, S=S, tol=1e-9, max_nodes=300000, bc_tol=bc_tol)
+    assert sol.success, sol.message
+    return sol.y[0, -1] * VT, sol.y[1, -1] / sc
+
+
+def silanol_charge(phi0, pH, pK=7.5, gamma=8e18):
+    # Behrens & Grier (2001): sigma = -e Gamma / (1 + 10^(pK - pH) exp(-e psi0/kT))
+    return -E * gamma / (1.0 + 10.0 ** (pK - pH) * np.exp(-phi0))
+
+
+def alumina_charge(phi0, pH, pKp=6.0, pKm=10.0, gamma=8e18):
+    # two-pK site, Yates, Levine & Healy (1974): [MOH2+]:[MOH]:[MO-] = h/K+ : 1 : K-/h
+    h = 10.0 ** (-pH) * np.exp(-phi0)
+    plus, minus = h / 10.0 ** (-pKp), 10.0 ** (-pKm) / h
+    return E * gamma * (plus - minus) / (plus + 1.0 + minus)
+
+
+@pytest.mark.parametrize("m", [0, 1])
+@pytest.mark.parametrize("kappa_a", [0.01, 0.1, 1.0, 10.0, 100.0])
+def test_regulated_silica_channel_against_solve_bvp(m, kappa_a):
+    # silica (Behrens & Grier 2001 parameters) in 0.1 mM KCl, pH 4-10, from
+    # strongly overlapping (kappa a = 0.01) to thin (100) double layers
+    c = 0.1
+    e = ek.Electrolyte.salt("KCl", c)
+    R = kappa_a * float(e.debye_length)
+    pH = np.array([4.0, 5.5, 7.0, 8.5, 10.0])
+    r = regulated_layer(m, R, e, Surface.silica(), pH)
+    ref = np.array([bvp_regulated(m, R, e, silanol_charge, 2.9, p) for p in pH])
+    # the prototype runs at its default accuracy 1e-6 (measured: within 1e-7)
+    assert_allclose(r["zeta"], ref[:, 0], rtol=1e-6)
+    assert_allclose(r["charge_density"], ref[:, 1], rtol=1e-6)
+    # its error estimate (the fine grid's) bounds the error of the answer
+    true = np.abs(r["charge_density"] / ref[:, 1] - 1)
+    assert np.all(true <= r["error"] + 1e-9)
+    assert_allclose(r["charged_fraction"], -r["charge_density"] / (E * 8e18), rtol=1e-6)
+
+
+@pytest.mark.parametrize("m", [0, 1])
+def test_regulated_oxide_channel_in_CaCl2_against_solve_bvp(m):
+    # an amphoteric wall on either side of its point of zero charge, in a 2:1
+    # salt; site parameters of the alumina preset
+    e = ek.Electrolyte.salt("CaCl2", 0.5)
+    pH = np.array([5.0, 7.5, 9.0])
+    for kappa_a in (0.3, 3.0):
+        R = kappa_a * float(e.debye_length)
+        r = regulated_layer(m, R, e, Surface.alumina(stern_capacitance=0.8), pH)
+        ref = np.array([bvp_regulated(m, R, e, alumina_charge, 0.8, p) for p in pH])
+        assert_allclose(r["zeta"], ref[:, 0], rtol=1e-6)
+        assert_allclose(r["charge_density"], ref[:, 1], rtol=1e-6)
+        assert r["zeta"][0] > 0 > r["zeta"][2]
+
+
+def test_regulated_channel_limits():
+    e = ek.Electrolyte.salt("KCl", np.array([0.01, 1.0, 100.0]))
+    # wide slit: the isolated wall (measured: within 5e-8)
+    iso = Surface.silica().isolated(e, pH=7.0)
+    r = regulated_layer(0, 1e-3, e, Surface.silica(), 7.0)
+    assert_allclose(r["zeta"], iso.zeta, rtol=1e-6)
+    assert_allclose(r["charge_density"], iso.charge_density, rtol=1e-6)
+    # wide tube: the same up to the curvature of the wall, a relative change of
+    # order (Debye length)/radius (measured: 0.09 of it, at every accuracy)
+    r = regulated_layer(1, 1e-3, e, Surface.silica(), 7.0)
+    curv = e.debye_length / 1e-3
+    assert np.all(np.abs(r["zeta"] / iso.zeta - 1) < curv)
+    assert np.all(np.abs(r["charge_density"] / iso.charge_density - 1) < curv)
+    # fixed-charge sites (pK -10 at pH 9) in overlapping layers: the
+    # constant-charge Poisson-Boltzmann solution of the pb model, an
+    # independent solver (ekexplore.doublelayer)
+    gamma = 1e17
+    fixed = Surface(Site(-10.0, gamma), 2.9)
+    for m, shape in ((0, ek.Slit(20e-9)), (1, ek.Tube(20e-9))):
+        r = regulated_layer(m, 10e-9, e, fixed, 9.0)
+        pb = ek.solve(shape, e, ek.Wall(charge_density=-E * gamma), model="pb")
+        assert_allclose(r["charge_density"], -E * gamma, rtol=1e-9)
+        assert_allclose(r["zeta"], pb.wall_potential, rtol=1e-6)
+    # many fast sites and a large Stern capacitance: the Nernst potential of the
+    # point of zero charge, overlap or not (see test_constant_potential_limit)
+    nernst = KB * 298.15 / E * np.log(10) * (7.0 - 9.0)
+    r = regulated_layer(0, 5e-9, e, Surface.amphoteric(6.0, 8.0, 1e21, 1e3), 9.0)
+    assert_allclose(r["zeta"], nernst, rtol=1e-2)
+
+
+def test_overlap_lowers_the_charge_of_silica():
+    # Behrens & Grier (2001): an anionic surface close to silica lowers its
+    # charge by regulation once the separation falls to about a Debye length.
+    # Two silica walls of a narrowing slit: |sigma| falls and |zeta| rises.
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    lam = float(e.debye_length)
+    R = lam * np.logspace(-2, 2, 17)
+    r = regulated_layer(0, R, e, Surface.silica(), 7.0)
+    sig = -r["charge_density"]
+    # monotone, to within the solver's accuracy once the walls no longer
+    # interact (kappa a > 10, where sigma changes by less than 1e-7)
+    noise = 1e-7 * sig
+    assert np.all(np.diff(sig) > -noise[1:])
+    assert np.all(np.diff(r["zeta"]) > -noise[1:] * 10)
+    assert np.all(np.diff(sig)[:8] > 1e-3 * sig[1:9])
+    iso = float(Surface.silica().isolated(e, 7.0).charge_density)
+    assert sig[-1] == pytest.approx(-iso, rel=1e-5)    # kappa a = 100: isolated
+    assert sig[8] < 0.99 * -iso                         # kappa a = 1: lowered
+    assert sig[4] < 0.67 * -iso                         # kappa a = 0.1: by a third
+
+
+def test_regulated_batch_equals_single_points():
+    e = ek.Electrolyte.salt("KCl", np.array([0.01, 0.3, 30.0]))
+    R = np.array([[3e-9], [50e-9]])
+    pH = 6.3
+    batch = regulated_layer(1, R, e, Surface.silica(pK=[[7.0], [7.8]]), pH)
+    for i in range(2):
+        for j in range(3):
+            one = regulated_layer(1, R[i, 0], ek.Electrolyte.salt("KCl", e.concentrations[0, j]),
+                                  Surface.silica(pK=[7.0, 7.8][i]), pH)
+            assert batch["zeta"][i, j] == one["zeta"]
+            assert batch["charge_density"][i, j] == one["charge_density"]
