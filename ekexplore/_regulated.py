@@ -27,13 +27,14 @@ converges from any start.
 from __future__ import annotations
 
 import numpy as np
-from scipy import constants
+from scipy import constants, special
 from scipy.linalg import lapack
 
 from .doublelayer import ConvergenceError, make_grid, PB_PHI_MAX
-from .surface import Surface
+from .wall import _osmotic_root
 
-__all__ = ["solve_regulated_pb", "regulated_layer"]
+__all__ = ["solve_regulated_pb", "regulated_layer", "regulated_wall", "isolated_scaled",
+           "dh_scaled"]
 
 #: Computational spacing of the coarse grid in the log-mapped coordinate.
 DXI = 0.12
@@ -70,25 +71,49 @@ class _Sites:
         return sig * sc, dsig * sc, free * sc, frac
 
 
-def _isolated_scaled(z, w, K, c_s, sites):
-    """Isolated-wall (phi_w, phi_0) in scaled units, by bisection on phi_w:
-    sigma~_G(phi_w) = sign K sqrt(2 sum w (e^{-z phi} - 1)) balances the sites."""
-    lim = PB_PHI_MAX / np.max(np.abs(z))
-    lo = np.full(K.shape, -lim)
-    hi = np.full(K.shape, lim)
-
-    def balance(phi):
-        sg = np.sign(phi) * K * np.sqrt(np.maximum(2.0 * np.sum(
-            w * np.expm1(-z[:, None] * phi[None]), axis=0), 0.0))
-        return sites(phi + sg / c_s)[0] - sg, sg
-
-    for _ in range(64):
+def _bisect_wall(lo, hi, balance, n=64):
+    """Root of a decreasing ``balance`` between ``lo`` and ``hi`` by bisection."""
+    for _ in range(n):
         mid = 0.5 * (lo + hi)
-        up = balance(mid)[0] > 0
+        up = balance(mid) > 0
         lo = np.where(up, mid, lo)
         hi = np.where(up, hi, mid)
-    phi_w = 0.5 * (lo + hi)
-    return phi_w, phi_w + balance(phi_w)[1] / c_s
+    return 0.5 * (lo + hi)
+
+
+def isolated_scaled(z, w, K, c_s, sites):
+    """Regulated isolated wall in scaled units: (phi_w, phi_0, sigma~).
+
+    Grahame's charge of the diffuse layer, sigma~_G = sgn(phi) K sqrt(2 sum w
+    (e^{-z phi} - 1)), from :func:`ekexplore.wall._osmotic_root` (the core of
+    :func:`ekexplore.wall.grahame_charge`), balances the sites at
+    phi_0 = phi_w + sigma~/c_s; bisection on phi_w to 5e-18.
+    """
+    zc = np.asarray(z, dtype=float)[:, None]
+
+    def grahame(phi):
+        return np.sign(phi) * K * np.sqrt(2.0) * _osmotic_root(zc, w, phi)
+
+    lim = np.full(K.shape, PB_PHI_MAX / np.max(np.abs(z)))
+    phi_w = _bisect_wall(-lim, lim, lambda p: sites(p + grahame(p) / c_s)[0] - grahame(p))
+    sg = grahame(phi_w)
+    return phi_w, phi_w + sg / c_s, sg
+
+
+def dh_scaled(m, K, c_s, sites):
+    """Regulated wall of the Debye–Hückel model in scaled units: (phi_w, phi_0, sigma~).
+
+    The linear double layer across the channel gives sigma~ = phi_w K tanh K
+    (slit) or phi_w K I1(K)/I0(K) (tube); it balances the (nonlinear) sites at
+    phi_0 = phi_w + sigma~/c_s; bisection on phi_w.
+    """
+    if m == 0:
+        slope = K * np.tanh(K)
+    else:
+        slope = K * special.ive(1, K) / special.ive(0, K)
+    lim = np.full(K.shape, PB_PHI_MAX)
+    phi_w = _bisect_wall(-lim, lim, lambda p: sites(p + slope * p / c_s)[0] - slope * p)
+    return phi_w, phi_w + slope * phi_w / c_s, slope * phi_w
 
 
 def _start(grid, K, z, phi_w):
@@ -140,7 +165,7 @@ def solve_regulated_pb(grid, K, z, w, c_s, sites, start=None, tol=1e-6, max_iter
     c = grid.area / grid.dx                                  # (B, n-1)
     K2V = (K**2)[:, None] * grid.volume                      # (B, n)
     if start is None:
-        phi_w, phi0 = _isolated_scaled(z, w, K, c_s, sites)
+        phi_w, phi0, _ = isolated_scaled(z, w, K, c_s, sites)
         phi = _start(grid, K, z, phi_w)
     else:
         phi0, phi = start
@@ -223,6 +248,67 @@ def _refine(phi_c):
     return fine
 
 
+def _flat_problem(half_size, electrolyte, surface, pH):
+    """Scaled, flat-batch form of a regulated-wall problem (dict of arrays)."""
+    half_size = np.asarray(half_size, dtype=float)
+    pH = np.asarray(pH, dtype=float)
+    shape = np.broadcast_shapes(half_size.shape, pH.shape, electrolyte.shape, surface.shape)
+    B = int(np.prod(shape)) if shape else 1
+
+    def flat(a):
+        return np.broadcast_to(a, shape).reshape(B).astype(float)
+
+    z = electrolyte.valences.astype(float)
+    ce = electrolyte.concentrations
+    ce = ce.reshape(ce.shape[:1] + (1,) * (len(shape) - len(electrolyte.shape)) + ce.shape[1:])
+    conc = np.broadcast_to(ce, ce.shape[:1] + shape).reshape(len(z), B)
+    T = flat(electrolyte.temperature)
+    eps = flat(electrolyte.permittivity)
+    R = flat(half_size)
+    VT = constants.k * T / constants.e
+    surf = surface._flat(shape)
+    return dict(shape=shape, B=B, z=z, w=conc / np.sum(z[:, None]**2 * conc, axis=0),
+                K=R / flat(electrolyte.debye_length), VT=VT, surf=surf,
+                c_s=surf.stern_capacitance * R / eps,
+                sites=_Sites(surf, flat(pH), R / (eps * VT)))
+
+
+def _results(p, phi_w, phi0, sigma_s, err):
+    """SI results of the broadcast shape from scaled flat ones."""
+    sites = p["sites"]
+    frac = sites(phi0)[3]
+    out = dict(zeta=phi_w * p["VT"], charge_density=sigma_s / sites.scale,
+               surface_potential=phi0 * p["VT"], charged_fraction=frac, error=err)
+    return {k: np.reshape(v, p["shape"]) for k, v in out.items()}
+
+
+def regulated_wall(model, m, half_size, electrolyte, surface, pH, accuracy=1e-6):
+    """The regulated wall of a slit (m = 0) or tube (m = 1) under one
+    double-layer model: zeta, charge and the fraction of charged sites.
+
+    ``thin``: the isolated flat wall (Grahame); ``dh``: the linear double
+    layer across the channel; ``pb``: the nonlinear one
+    (:func:`regulated_layer`). Each balances the same nonlinear sites and
+    Stern layer. Once zeta is known, the double layer of the channel is the
+    constant-potential one at that zeta (the same equation with the same
+    wall value), so every transport coefficient follows from the model's
+    constant-potential kernel.
+
+    Parameters and returns as :func:`regulated_layer` (no profiles for thin
+    and dh; their ``error`` is 0: the model error is auto's).
+    """
+    if model == "pb":
+        return regulated_layer(m, half_size, electrolyte, surface, pH, accuracy)
+    p = _flat_problem(half_size, electrolyte, surface, pH)
+    if model == "thin":
+        phi_w, phi0, sig = isolated_scaled(p["z"], p["w"], p["K"], p["c_s"], p["sites"])
+    elif model == "dh":
+        phi_w, phi0, sig = dh_scaled(m, p["K"], p["c_s"], p["sites"])
+    else:
+        raise ValueError(f"model = {model!r}: choose thin, dh or pb")
+    return _results(p, phi_w, phi0, sig, np.zeros(p["B"]))
+
+
 def regulated_layer(m, half_size, electrolyte, surface, pH, accuracy=1e-6):
     """Equilibrium double layer of a slit (m = 0) or tube (m = 1) with
     charge-regulating walls: zeta, charge and the fraction of charged sites.
@@ -245,32 +331,15 @@ def regulated_layer(m, half_size, electrolyte, surface, pH, accuracy=1e-6):
     -------
     dict
         ``zeta`` [V], ``charge_density`` [C/m²], ``surface_potential`` [V],
-        ``charged_fraction`` [-], ``error`` (relative, from the two grids),
-        each of the broadcast shape; ``phi`` and ``x`` (fine-grid scaled
-        potential and wall distance over R, flat batch) for checks.
+        ``charged_fraction`` [-], ``error`` (relative difference of the two
+        grids over 3: it bounds the error of the fine grid, and the
+        extrapolated values are better still), each of the broadcast shape;
+        ``phi`` and ``x`` (fine-grid scaled potential and wall distance over
+        R, flat batch) for checks.
     """
-    half_size = np.asarray(half_size, dtype=float)
-    pH = np.asarray(pH, dtype=float)
-    shape = np.broadcast_shapes(half_size.shape, pH.shape, electrolyte.shape, surface.shape)
-    B = int(np.prod(shape)) if shape else 1
-
-    def flat(a):
-        return np.broadcast_to(a, shape).reshape(B).astype(float)
-
-    z = electrolyte.valences.astype(float)
-    ce = electrolyte.concentrations
-    ce = ce.reshape(ce.shape[:1] + (1,) * (len(shape) - len(electrolyte.shape)) + ce.shape[1:])
-    conc = np.broadcast_to(ce, ce.shape[:1] + shape).reshape(len(z), B)
-    w = conc / np.sum(z[:, None]**2 * conc, axis=0)
-    T = flat(electrolyte.temperature)
-    eps = flat(electrolyte.permittivity)
-    R = flat(half_size)
-    K = R / flat(electrolyte.debye_length)
-    VT = constants.k * T / constants.e
-    surf = surface._flat(shape)
-    c_s = surf.stern_capacitance * R / eps
-    sites = _Sites(surf, flat(pH), R / (eps * VT))
-    phi_w, phi0 = _isolated_scaled(z, w, K, c_s, sites)
+    p = _flat_problem(half_size, electrolyte, surface, pH)
+    z, w, K, c_s, sites, B = p["z"], p["w"], p["K"], p["c_s"], p["sites"], p["B"]
+    phi_w, phi0, _ = isolated_scaled(z, w, K, c_s, sites)
     # inner scale of the log grid: a quarter of the smaller of Debye and
     # Gouy-Chapman lengths of the isolated wall (as the pb kernel)
     zc = np.max(np.abs(z))
@@ -280,36 +349,30 @@ def regulated_layer(m, half_size, electrolyte, surface, pH, accuracy=1e-6):
     need = np.maximum(MIN_CELLS, np.ceil(np.log1p(1.0 / x0) / dxi))
     level = np.round(MIN_CELLS * 2.0 ** (np.ceil(2.0 * np.log2(need / MIN_CELLS)) / 2.0))
     level = level.astype(int)
-    out = {k: np.empty(B) for k in ("zeta", "charge_density", "surface_potential",
-                                    "charged_fraction", "error")}
+    res = {k: np.empty(B) for k in ("phi_w", "phi0", "sigma", "error")}
     phis, xs = [None] * B, [None] * B
+
+    def rich(a_, b_):
+        return (4.0 * b_ - a_) / 3.0
+
     for n in np.unique(level):
         idx = np.flatnonzero(level == n)
-        sub_sites = _Sites(surf._take(idx), sites.pH[idx], sites.scale[idx])
+        sub_sites = _Sites(p["surf"]._take(idx), sites.pH[idx], sites.scale[idx])
         wi, Ki, ci = w[:, idx], K[idx], c_s[idx]
         coarse = make_grid(m, x0[idx], int(n))
         p0c, pc = solve_regulated_pb(coarse, Ki, z, wi, ci, sub_sites,
                                      start=(phi0[idx], _start(coarse, Ki, z, phi_w[idx])))
         fine = make_grid(m, x0[idx], 2 * int(n))
         p0f, pf = solve_regulated_pb(fine, Ki, z, wi, ci, sub_sites, start=(p0c, _refine(pc)))
-        sc, _, _, fc = sub_sites(p0c)
-        sf, _, _, ff = sub_sites(p0f)
-
-        def rich(a_, b_):
-            return (4.0 * b_ - a_) / 3.0
-        vt = VT[idx]
-        zeta = rich(pc[:, 0], pf[:, 0]) * vt
-        sig_scale = 1.0 / sites.scale[idx]
-        sigma = rich(sc, sf) * sig_scale
-        out["zeta"][idx] = zeta
-        out["charge_density"][idx] = sigma
-        out["surface_potential"][idx] = rich(p0c, p0f) * vt
-        out["charged_fraction"][idx] = rich(fc, ff)
+        sc, sf = sub_sites(p0c)[0], sub_sites(p0f)[0]
+        res["phi_w"][idx] = rich(pc[:, 0], pf[:, 0])
+        res["phi0"][idx] = rich(p0c, p0f)
+        res["sigma"][idx] = rich(sc, sf)
         err_z = np.abs(pf[:, 0] - pc[:, 0]) / 3.0 / np.maximum(np.abs(pf[:, 0]), 1e-300)
         err_s = np.abs(sf - sc) / 3.0 / np.maximum(np.abs(sf), 1e-300)
-        out["error"][idx] = np.maximum(err_z, err_s)
+        res["error"][idx] = np.maximum(err_z, err_s)
         for j, i in enumerate(idx):
             phis[i], xs[i] = pf[j], fine.x[j]
-    res = {k: v.reshape(shape) for k, v in out.items()}
-    res["phi"], res["x"] = phis, xs
-    return res
+    out = _results(p, res["phi_w"], res["phi0"], res["sigma"], res["error"])
+    out["phi"], out["x"] = phis, xs
+    return out

@@ -206,6 +206,14 @@ class Surface:
 
     Notes
     -----
+    Presets: :meth:`silica` (Behrens & Grier 2001), :meth:`alumina` and
+    :meth:`tantalum_pentoxide` (site parameters of van Hal, Eijkel & Bergveld
+    1996, from memory). There is no polymer preset (PDMS, PMMA, COC): the
+    polymer data of Kirby & Hasselbrink (2004, Electrophoresis 25, 203,
+    doi:10.1002/elps.200305755) are empirical zeta/pC curves, not site
+    parameters, and could not be checked here; build such a wall from its
+    measured zeta with :class:`ekexplore.Wall` instead.
+
     The site pK values are those at 25 °C; no enthalpy of the surface
     reactions is included, so at other temperatures only kT/e changes
     (surface reaction enthalpies are rarely published). The activity of H⁺
@@ -587,9 +595,11 @@ class Surface:
         f_lo, f_hi = balance(lo), balance(hi)
         bad = (f_lo < 0) | (f_hi > 0)
         if np.any(bad):
+            k = int(np.flatnonzero(bad.ravel())[0])
             raise ValueError(
                 f"the charge of this surface needs |zeta| > {ZETA_MAX:g} V in this "
-                "electrolyte (beyond the model range); raise the salt concentration")
+                f"electrolyte at point {k} (pH {np.broadcast_to(pH, shape).ravel()[k]:g}; "
+                "beyond the model range); raise the salt concentration")
         # bisection: 1.2 V / 2^70 < 1e-18 V
         for _ in range(70):
             mid = 0.5 * (lo + hi)

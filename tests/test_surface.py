@@ -278,8 +278,13 @@ def test_pH_from_an_electrolyte_that_has_one():
     e = Buffered(["K+", "Cl-"], [1.0, 1.0])
     w = Surface.silica().isolated(e)
     assert_allclose(w.zeta, bg_silica_scalar(1.0, 8.0)[0], rtol=1e-9)
-    with pytest.raises(ValueError, match="pH"):
-        Surface.silica().isolated(ek.Electrolyte.salt("KCl", 1.0))
+    # an explicit pH wins over the electrolyte's
+    assert_allclose(Surface.silica().isolated(e, pH=6.0).zeta, bg_silica_scalar(1.0, 6.0)[0],
+                    rtol=1e-9)
+    plain = ek.Electrolyte.salt("KCl", 1.0)
+    if getattr(plain, "pH", None) is None:
+        with pytest.raises(ValueError, match="pH"):
+            Surface.silica().isolated(plain)
 
 
 # ---------------------------------------------------------------------------
@@ -301,6 +306,10 @@ def test_pH_from_an_electrolyte_that_has_one():
     (lambda: Surface.silica().isolated(ek.Electrolyte.salt("KCl", 1.0), pH=-1.0),
      ["pH", "-1", "[0, 14]"]),
     (lambda: Surface.silica().site_charge(np.nan, 7.0), ["surface_potential", "finite"]),
+    # 16 C/m^2 of fixed charge in 1 uM salt would need |zeta| far beyond 0.6 V
+    (lambda: Surface(Site(-10.0, 1e20), 2.9).isolated(ek.Electrolyte.salt("KCl", 1e-3),
+                                                      pH=[7.0, 9.0]),
+     ["zeta", "0.6 V", "point 0", "pH 7"]),
 ])
 def test_bad_input_names_parameter_value_and_range(make, words):
     with pytest.raises(ValueError) as info:
@@ -470,3 +479,81 @@ def test_regulated_batch_equals_single_points():
                                   Surface.silica(pK=[7.0, 7.8][i]), pH)
             assert batch["zeta"][i, j] == one["zeta"]
             assert batch["charge_density"][i, j] == one["charge_density"]
+
+
+# ---------------------------------------------------------------------------
+# the regulated wall under each double-layer model
+# ---------------------------------------------------------------------------
+from scipy import special  # noqa: E402
+
+from ekexplore._regulated import regulated_wall  # noqa: E402
+
+
+def dh_silica_scalar(m, R, c_mM, pH, T=298.15, pK=7.5, gamma=8e18, C=2.9):
+    """Independent Debye-Hueckel regulated wall, 1:1 salt: the linear double
+    layer across a slit (cosh profile) or tube (Rice & Whitehead 1965, J. Phys.
+    Chem. 69, 4017, doi:10.1021/j100782a002: I0 profile) carries
+    sigma = eps kappa psi_d tanh(kappa R) or eps kappa psi_d I1(kappa R)/I0(kappa R);
+    it must balance Behrens & Grier's silanol sites at psi_0 = psi_d + sigma/C."""
+    VT = KB * T / E
+    eps = eps_water(T)
+    kappa = np.sqrt(2 * E**2 * c_mM * constants.N_A / (eps * KB * T))
+    K = kappa * R
+    g = np.tanh(K) if m == 0 else special.iv(1, K) / special.iv(0, K)
+
+    def mismatch(psi):
+        s = eps * kappa * psi * g
+        return s - silanol_charge((psi + s / C) / VT, pH, pK, gamma)
+
+    psi = brentq(mismatch, -2.0, 0.0, xtol=1e-300, rtol=1e-15, maxiter=500)
+    return psi, eps * kappa * psi * g
+
+
+@pytest.mark.parametrize("m", [0, 1])
+def test_regulated_wall_thin_and_dh_against_independent_solutions(m):
+    conc = np.array([0.01, 1.0, 100.0])
+    e = ek.Electrolyte.salt("KCl", conc)
+    R = np.array([[5e-9], [200e-9]])
+    pH = 6.5
+    thin = regulated_wall("thin", m, R, e, Surface.silica(), pH)
+    ref = np.array([bg_silica_scalar(c, pH) for c in conc])
+    assert_allclose(thin["zeta"], np.broadcast_to(ref[:, 0], (2, 3)), rtol=1e-9)
+    assert_allclose(thin["charge_density"], np.broadcast_to(ref[:, 1], (2, 3)), rtol=1e-9)
+    dh = regulated_wall("dh", m, R, e, Surface.silica(), pH)
+    for i in range(2):
+        for j, c in enumerate(conc):
+            zr, sr = dh_silica_scalar(m, R[i, 0], c, pH)
+            assert_allclose([dh["zeta"][i, j], dh["charge_density"][i, j]], [zr, sr],
+                            rtol=1e-9)
+
+
+def test_dh_regulated_wall_approaches_pb_at_small_potential():
+    # near the point of zero charge the potentials are small and the linear
+    # double layer is exact to second order: relative gap below phi_w^2
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    s = Surface.alumina(stern_capacitance=0.8)
+    pH = np.array([7.93, 7.98, 8.02, 8.07])
+    for m in (0, 1):
+        for R in (2e-9, 20e-9):
+            dh = regulated_wall("dh", m, R, e, s, pH)
+            pb = regulated_wall("pb", m, R, e, s, pH)
+            phi = np.abs(pb["zeta"]) / (KB * 298.15 / E)
+            assert np.all(phi < 0.2)
+            gap = np.abs(dh["charge_density"] / pb["charge_density"] - 1)
+            assert np.all(gap < 0.5 * phi**2)
+            # second order: gap / phi^2 the same at phi = 0.04 and 0.15
+            # (measured 0.04-0.16 depending on kappa a and the shape)
+            ratio = gap / phi**2
+            assert_allclose(ratio[1], ratio[0], rtol=0.05)
+
+
+@pytest.mark.parametrize("model", ["thin", "dh", "pb"])
+def test_regulated_zeta_reproduces_its_charge_in_the_fixed_potential_kernels(model):
+    # once zeta is known the channel's double layer is the constant-potential
+    # one at that zeta: the existing kernels, given that zeta, must find the
+    # same wall charge (for pb an independent solver: ekexplore.doublelayer)
+    e = ek.Electrolyte.salt("KCl", np.array([0.05, 2.0, 50.0]))
+    for m, shape in ((0, ek.Slit(2 * 15e-9)), (1, ek.Tube(2 * 15e-9))):
+        reg = regulated_wall(model, m, 15e-9, e, Surface.silica(), 7.5)
+        res = ek.solve(shape, e, ek.Wall(zeta=reg["zeta"]), model=model)
+        assert_allclose(res.wall_charge, reg["charge_density"], rtol=2e-6)
