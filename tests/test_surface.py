@@ -307,7 +307,7 @@ def test_pH_from_an_electrolyte_that_has_one():
      ["pH", "-1", "[0, 14]"]),
     (lambda: Surface.silica().site_charge(np.nan, 7.0), ["surface_potential", "finite"]),
     # 16 C/m^2 of fixed charge in 1 uM salt would need |zeta| far beyond 0.6 V
-    (lambda: Surface(Site(-10.0, 1e20), 2.9).isolated(ek.Electrolyte.salt("KCl", 1e-3),
+    (lambda: Surface(Site(-10.0, 1e20), 1e3).isolated(ek.Electrolyte.salt("KCl", 1e-3),
                                                       pH=[7.0, 9.0]),
      ["zeta", "0.6 V", "point 0", "pH 7"]),
 ])
