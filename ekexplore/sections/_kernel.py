@@ -14,7 +14,10 @@ from __future__ import annotations
 
 import numpy as np
 
-from .._state import F, R as R_GAS
+from .._constants import F
+from ..coefficients import coefficients, dh_means, neutrality_charge, thin_means
+from ..doublelayer import gouy_chapman_length
+from ..wall import isolated_wall_charge, isolated_wall_potential
 from ._meshes import build_mesh
 from ._numerics import flow_profile, harmonic_extension, solve_potential
 
@@ -50,12 +53,11 @@ def _refined(n, err, accuracy):
 
 
 def _gouy(lam, z, phi_w):
-    """Scaled inner length of a strongly charged wall: lam / (1 + sinh(|z phi_w|/2))."""
-    zmax = np.max(np.abs(z))
-    a = min(abs(zmax * phi_w), 80.0)
-    if a < 2.0:
+    """Scaled inner length of a strongly charged wall (the Gouy-Chapman length),
+    or None below |z phi_w| = 2, where the Debye length is the inner scale."""
+    if min(abs(np.max(np.abs(z)) * phi_w), 80.0) < 2.0:
         return None
-    return lam / (1.0 + np.sinh(0.5 * a))
+    return float(gouy_chapman_length(lam, z, phi_w))
 
 
 def scaled_solution(mesh, kl2, w, z, condition, value, model, guess=None):
@@ -65,7 +67,8 @@ def scaled_solution(mesh, kl2, w, z, condition, value, model, guess=None):
     discrete harmonic function equal to phi on the wall (u_eo over
     eps kT/(e eta) E), ``u`` the scaled Poiseuille profile, ``g`` the scaled
     charge density, and the means ``u_mean`` <u>, ``l12`` <d>, ``l21``
-    (kappa L)^2 <g u>, ``mean_c`` <c_i>/c_i and ``conv`` <c_i/c_i d> per ion,
+    (kappa L)^2 <g u>, ``mean_c`` <c_i>/c_i and ``conv`` <(c_i/c_i - 1) d> per ion
+    (the convection of the ion's excess over the bulk),
     ``phi_wall`` the wall-averaged potential and ``mean_g`` <g>.
     """
     offset, dev, info = solve_potential(mesh, kl2, w, z, condition, value, model, guess)
@@ -80,19 +83,22 @@ def scaled_solution(mesh, kl2, w, z, condition, value, model, guess=None):
     if model == "pb":
         conc = np.exp(-zc * offset) * np.exp(-zc * dev[None, :])
         g = w @ conc
-        conv_factor = conc
-    else:   # dh: linear charge, Boltzmann factors to second (migration) and first order
+        mean_c = conc @ m
+        # convection of each ion's excess over the bulk
+        conv = (np.expm1(-zc * phi[None, :]) * d[None, :]) @ m
+    else:   # dh: linear charge density
         g = -phi
-        conc = 1.0 - zc * phi[None, :] + 0.5 * zc**2 * phi[None, :] ** 2
-        conv_factor = 1.0 - zc * phi[None, :]
+        mean_c, conv = (a[:, 0] for a in dh_means(z, np.array([m @ phi]),
+                                                   np.array([m @ phi**2]),
+                                                   np.array([m @ (phi * d)])))
     wall = mesh.wall
     return {
         "phi": phi, "d": d, "u": u, "g": g, "info": info,
         "u_mean": float(m @ u),
         "l12": float(m @ d),
         "l21": float(kl2 * (m @ (g * u))),
-        "mean_c": conc @ m,
-        "conv": (conv_factor * d[None, :]) @ m,
+        "mean_c": mean_c,
+        "conv": conv,
         "phi_wall": float(offset + mesh.b[wall] @ dev[wall] / mesh.b[wall].sum()),
         "mean_g": float(m @ g),
         "area": mesh.area, "perimeter": mesh.perimeter,
@@ -208,185 +214,127 @@ def _rich(c, f):
     return (4.0 * f - c) / 3.0
 
 
-def _flat_conditions(cond):
-    shape = cond.shape
-    B = int(np.prod(shape)) if shape else 1
-
-    def f1(a):
-        return np.broadcast_to(a, shape).reshape(B).astype(float)
-
-    def fk(a):
-        return np.broadcast_to(a, a.shape[:1] + shape).reshape(a.shape[0], B).astype(float)
-
-    z = np.asarray(cond.valences, dtype=float)
-    c = fk(cond.concentrations)
-    out = dict(B=B, z=z, c=c, D=fk(cond.diffusivities), T=f1(cond.temperature),
-               eps=f1(cond.permittivity), eta=f1(cond.viscosity), kappa=f1(cond.kappa),
-               value=f1(cond.wall_value), VT=f1(cond.thermal_voltage))
-    zz = np.sum(z[:, None] ** 2 * c, axis=0)
-    out["w"] = z[:, None] * c / zz                       # z_i c_i / sum z^2 c
-    out["lam"] = z[:, None] ** 2 * F**2 * out["D"] / (R_GAS * out["T"])
-    return out
+def _series_means(s, phi_w, kappa, z):
+    """Scaled means of the Debye-Hueckel closed-form series (constant potential)."""
+    mean_c, conv = dh_means(z, *(np.array([v]) for v in (
+        phi_w * s["mean_phi"], phi_w**2 * s["mean_phi2"],
+        phi_w**2 * (s["mean_phi2"] - s["mean_phi"]))))
+    return {"l12": -phi_w * s["one_minus_mean_phi"], "l21": -kappa**2 * phi_w * s["mean_phi_u"],
+            "mean_c": mean_c[:, 0], "conv": conv[:, 0]}
 
 
-def _choose(channel, b, geo, model, cond, options):
-    """Models per point; for 'auto' the a-priori estimates of ekexplore.regimes."""
-    if model != "auto":
-        return np.full(b["B"], model), None
-    try:
-        from ..regimes import choose_models
-        from ..kernels1d import wall_potential_isolated
-    except ImportError:   # pragma: no cover - the core always ships them
-        return np.full(b["B"], "pb"), None
-    Lh = geo["half_size"]
-    K = b["kappa"] * Lh
-    if cond.wall_condition == "potential":
-        phi_est = b["value"] / b["VT"]
-    else:
-        sig = b["value"] * Lh / (b["eps"] * b["VT"])
-        iso = wall_potential_isolated(b["z"], b["c"] / np.sum(b["z"][:, None]**2 * b["c"], 0),
-                                      K, sig)
-        # Donnan-like estimate for overlapped layers: charge over the area's screening
-        dh = sig * geo["perimeter"] * Lh / (geo["area"] * K**2)
-        phi_est = np.where(np.abs(dh) > np.abs(iso), np.clip(dh, -40, 40), iso)
-    weights = b["c"] / np.sum(b["z"][:, None]**2 * b["c"], 0)
-    chosen, est = choose_models(K, phi_est, b["z"], "section", options.get("tol", 0.01),
-                                condition=cond.wall_condition, weights=weights)
-    return np.asarray(chosen), est
+def _point_thin(channel, bk, geo, k, n, accuracy):
+    """The slip model at one point: flow from the mesh, layer from the flat wall."""
+    kind, dims, L = geo["spec"][k]
+    phi_w = float(bk.scaled_value[0]) if bk.wall.dirichlet else float(isolated_wall_potential(
+        bk.z, bk.weights, bk.K, bk.scaled_value)[0])
+    u_mean, err, shear = _hydraulic(channel, geo["values"][k], kind, dims, L, n, accuracy)
+    per_area = geo["perimeter"][k] / geo["area"][k] / bk.kappa
+    means = thin_means(bk, np.array([phi_w]), per_area, shear)
+    means = {"l12": means["l12"], "l21": means["l21"], "mean_c": means["mean_c"][:, 0],
+             "conv": means["conv_excess"][:, 0]}
+    sigma = bk.value[0] if not bk.wall.dirichlet else float(
+        bk.eps[0] * bk.VT[0] * bk.kappa[0]
+        * isolated_wall_charge(bk.z[:, None], bk.weights, np.array([phi_w]))[0])
+    return means, u_mean, sigma, phi_w, err
 
 
-def section_kernel(channel, cond, model, options):
+def _point_series(channel, bk, geo, k, accuracy, model, options):
+    """The rectangle's Debye-Hueckel series at one point, or None where it does
+    not apply or its tail misses the accuracy."""
+    if model != "dh" or not bk.wall.dirichlet or not options.get("rectangle_series", True):
+        return None
+    kappa = float(bk.kappa[0])
+    s = channel._dh_series_values(*geo["values"][k], kappa)
+    if s is None or not s["tail"] < 0.1 * accuracy:
+        return None
+    phi_w = float(bk.scaled_value[0])
+    means = _series_means(s, phi_w, kappa, bk.z)
+    sigma = float(neutrality_charge(bk, -phi_w * s["mean_phi"],
+                                    geo["area"][k] / geo["perimeter"][k])[0])
+    return means, s["mean_u"], sigma, phi_w, s["tail"]
+
+
+def _point_mesh(channel, bk, geo, k, n, accuracy, model):
+    """dh or pb at one point on three graded meshes, Richardson-extrapolated."""
+    kind, dims, L = geo["spec"][k]
+    kappa = float(bk.kappa[0])
+    lam = 1.0 / (kappa * L)
+    z = bk.z
+    value = float(bk.scaled_value[0])
+    cond_name = bk.wall.name
+    gouy = None
+    if model == "pb":
+        phi_est = value if bk.wall.dirichlet else float(isolated_wall_potential(
+            z, bk.weights, bk.K, bk.scaled_value)[0])
+        gouy = _gouy(lam, z, phi_est)
+    kl2 = (kappa * L) ** 2
+    nk = n
+    if not bk.wall.dirichlet and kappa * L > _THIN_CHARGE_K:
+        # measured: with a constant-charge wall and layers this thin the
+        # coarsest of three 16-cell levels is not yet asymptotic, and
+        # the three-level estimate can miss errors of 0.5 %
+        nk = max(nk, 32)
+    lam_c = (bk.molar_conductivity * bk.c)[:, 0]
+    conv_c = (bk.z[:, None] * F * bk.c * bk.eps * bk.VT / bk.eta)[:, 0]
+    w = bk.charge_weights[:, 0]
+    for attempt in range(2):
+        rc, rf, err = _levels(kind, dims, nk, lam, gouy, kl2, w, z, cond_name, value, model,
+                              lam_c, conv_c)
+        if err <= accuracy or nk >= _N_MAX:
+            break
+        nk = _refined(nk, err, accuracy)   # refine once, as the estimate asks
+    ex = {key: _rich(rc[key], rf[key]) for key in
+          ("l12", "l21", "mean_c", "conv", "phi_wall", "mean_g")}
+    u_mean, err_flow, _ = _hydraulic(channel, geo["values"][k], kind, dims, L, n, accuracy,
+                                     need_shear=False)
+    sigma = bk.value[0] if not bk.wall.dirichlet else float(
+        neutrality_charge(bk, ex["mean_g"], rf["area"] / rf["perimeter"] * L)[0])
+    return ex, u_mean, sigma, ex["phi_wall"], max(err, err_flow)
+
+
+def section_kernel(channel, cond, models, options):
     """Kernel for a 2D section: see ``ekexplore._state`` for the returned dict."""
-    from ..wall import flat_layer_integrals
-    from ..kernels1d import wall_potential_isolated
-
     accuracy = options.get("accuracy")
     accuracy = DEFAULT_ACCURACY if accuracy is None else accuracy
     n = resolution(accuracy)
-    b = _flat_conditions(cond)
-    B = b["B"]
+    b = cond.flat()
     shape = cond.shape
     geo = channel._geometry_arrays(shape)          # dict of (B,) arrays and per-point specs
-    chosen, est = _choose(channel, b, geo, model, cond, options)
-    nion = len(b["z"])
-    out = {k: np.empty(B) for k in ("L11", "L12", "L21", "L22_migration", "L22_convection",
-                                    "wall_potential", "wall_charge", "error")}
-    out["ion_current"] = np.empty((nion, B))
-    z = b["z"]
-    for k in range(B):
-        spec = geo["spec"][k]                      # (kind, scaled dims, L)
-        kind, dims, L = spec
-        eps, eta, VT = b["eps"][k], b["eta"][k], b["VT"][k]
-        kappa = b["kappa"][k]
-        c, w, lam_i = b["c"][:, k], b["w"][:, k], b["lam"][:, k]
-        lam = 1.0 / (kappa * L)
-        A_exact, P_exact = geo["area"][k], geo["perimeter"][k]
+    chosen = np.broadcast_to(np.asarray(models), shape).reshape(b.B)
+    keys = ("L11", "L12", "L21", "L22_migration", "L22_convection", "wall_potential",
+            "wall_charge", "error")
+    out = {key: np.empty(b.B) for key in keys}
+    out["ion_current"] = np.empty((len(b.z), b.B))
+    for k in range(b.B):
+        bk = b.take(np.array([k])).with_length(np.array([geo["spec"][k][2]]))
         name = chosen[k]
-        if cond.wall_condition == "potential":
-            phi_w = b["value"][k] / VT
-            sig_s = None
-        else:
-            sig_s = b["value"][k] * L / (eps * VT)
-            phi_w = None
         if name == "thin":
-            if phi_w is None:
-                phi_w = float(wall_potential_isolated(z, (c / np.sum(z**2 * c))[:, None],
-                                                      np.array([kappa * L]),
-                                                      np.array([sig_s]))[0])
-            u_mean, err, shear = _hydraulic(channel, geo["values"][k], kind, dims, L, n,
-                                            accuracy)
-            L12 = -eps * VT * phi_w / eta
-            # streaming: wall shear per G times the first moment of the diffuse
-            # charge (int rho y dy = -eps zeta), over eta and the area
-            L21 = (-eps * VT * phi_w / eta) * shear
-            I_mig, I_conv = flat_layer_integrals(z[:, None], c[:, None], np.array([phi_w]))
-            I_mig, I_conv = I_mig[:, 0], I_conv[:, 0]
-            pa = P_exact / A_exact / kappa
-            bulk = lam_i * c
-            mig = bulk + pa * bulk * I_mig
-            conv_s = -phi_w + pa * I_conv
-            conv = z * F * c * eps * VT / eta * conv_s
-            sigma = eps * VT * kappa * np.sign(phi_w) * np.sqrt(
-                max(2.0 * np.sum((c / np.sum(z**2 * c)) * np.expm1(-z * phi_w)), 0.0))
-            if sig_s is not None:
-                sigma = b["value"][k]
-            L11 = u_mean / eta
-            wall_phi = phi_w
+            res = _point_thin(channel, bk, geo, k, n, accuracy)
         else:
-            series = None
-            if name == "dh" and phi_w is not None and options.get("rectangle_series", True):
-                series = channel._dh_series_values(*geo["values"][k], kappa)
-            if series is not None and series["tail"] < 0.1 * accuracy:
-                s = series
-                L11 = s["mean_u"] / eta
-                L12 = eps * VT / eta * (-phi_w * s["one_minus_mean_phi"])
-                L21 = eps * VT / eta * (-kappa**2 * phi_w * s["mean_phi_u"])
-                mean_c = 1.0 - z * phi_w * s["mean_phi"] + 0.5 * z**2 * phi_w**2 * s["mean_phi2"]
-                conv_s = -phi_w * s["one_minus_mean_phi"] - z * phi_w**2 * (
-                    s["mean_phi2"] - s["mean_phi"])
-                mig = lam_i * c * mean_c
-                conv = z * F * c * eps * VT / eta * conv_s
-                sigma = eps * VT * kappa**2 * phi_w * s["mean_phi"] * A_exact / P_exact
-                wall_phi = phi_w
-                err = s["tail"]
-            else:
-                value = phi_w if phi_w is not None else sig_s
-                cond_name = "potential" if phi_w is not None else "charge"
-                gouy = None
-                if phi_w is not None and name == "pb":
-                    gouy = _gouy(lam, z, phi_w)
-                elif name == "pb":
-                    est_phi = wall_potential_isolated(z, (c / np.sum(z**2 * c))[:, None],
-                                                      np.array([kappa * L]),
-                                                      np.array([sig_s]))[0]
-                    gouy = _gouy(lam, z, est_phi)
-                kl2 = (kappa * L) ** 2
-                nk = n
-                if cond_name == "charge" and kappa * L > _THIN_CHARGE_K:
-                    # measured: with a constant-charge wall and layers this thin the
-                    # coarsest of three 16-cell levels is not yet asymptotic, and
-                    # the three-level estimate can miss errors of 0.5 %
-                    nk = max(nk, 32)
-                for attempt in range(2):
-                    rc, rf, err = _levels(kind, dims, nk, lam, gouy, kl2, w, z, cond_name,
-                                          value, name, lam_i * c, z * F * c * eps * VT / eta)
-                    if err <= accuracy or nk >= _N_MAX:
-                        break
-                    nk = _refined(nk, err, accuracy)   # refine once, as the estimate asks
-                ex = {key: _rich(rc[key], rf[key]) for key in
-                      ("u_mean", "l12", "l21", "mean_c", "conv", "phi_wall", "mean_g")}
-                u_mean, err_flow, _ = _hydraulic(channel, geo["values"][k], kind, dims, L, n,
-                                                 accuracy, need_shear=False)
-                err = max(err, err_flow)
-                L11 = u_mean / eta
-                L12 = eps * VT / eta * ex["l12"]
-                L21 = eps * VT / eta * ex["l21"]
-                mig = lam_i * c * ex["mean_c"]
-                conv = z * F * c * eps * VT / eta * ex["conv"]
-                # wall charge from neutrality: sigma P = -int rho dA
-                sigma = -(eps * kappa**2 * VT) * ex["mean_g"] * rf["area"] / rf["perimeter"] * L
-                if sig_s is not None:
-                    sigma = b["value"][k]
-                wall_phi = ex["phi_wall"]
-        out["L11"][k] = L11
-        out["L12"][k] = L12
-        out["L21"][k] = L21
-        out["L22_migration"][k] = np.sum(mig)
-        out["L22_convection"][k] = np.sum(conv)
-        out["ion_current"][:, k] = mig + conv
-        out["wall_potential"][k] = wall_phi * VT
+            res = (_point_series(channel, bk, geo, k, accuracy, name, options)
+                   or _point_mesh(channel, bk, geo, k, n, accuracy, name))
+        means, u_mean, sigma, phi_w, err = res
+        co = coefficients(bk, np.atleast_1d(means["l12"]), np.atleast_1d(means["l21"]),
+                          means["mean_c"][:, None], means["conv"][:, None])
+        out["L11"][k] = u_mean / bk.eta[0]
+        out["L12"][k] = co["L12"][0]
+        out["L21"][k] = co["L21"][0]
+        out["L22_migration"][k] = np.sum(co["migration"])
+        out["L22_convection"][k] = np.sum(co["convection"])
+        out["ion_current"][:, k] = (co["migration"] + co["convection"])[:, 0]
+        out["wall_potential"][k] = phi_w * bk.VT[0]
         out["wall_charge"][k] = sigma
         out["error"][k] = err
+    est = options.get("model_errors")
     if est is not None:
         for name in ("thin", "dh"):
             sel = chosen == name
-            out["error"][sel] = np.maximum(out["error"][sel], est[name][sel])
-    for key in list(out):
-        if key == "ion_current":
-            out[key] = out[key].reshape((nion,) + shape)
-        else:
-            out[key] = out[key].reshape(shape)
-    out["model"] = chosen.reshape(shape) if shape else str(chosen[0])
+            out["error"][sel] = np.maximum(out["error"][sel], est[name].reshape(-1)[sel])
+    for key in keys:
+        out[key] = out[key].reshape(shape)
+    out["ion_current"] = out["ion_current"].reshape((len(b.z),) + shape)
+    out["model"] = chosen.reshape(shape)
     from .profiles import section_profiles_factory
     out["profiles"] = section_profiles_factory(channel, cond, out["model"], accuracy)
     return out

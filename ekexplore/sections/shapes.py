@@ -113,8 +113,8 @@ class _Section(Channel):
         form exists, else from the 2D flow solve (Richardson, about 1e-6)."""
         return self.hydraulic_diameter**2 / (2.0 * self._flow_mean())
 
-    def _kernel(self, conditions, model, options):
-        return section_kernel(self, conditions, model, options)
+    def _kernel(self, conditions, models, options):
+        return section_kernel(self, conditions, models, options)
 
     def mesh(self, accuracy=None, debye_length=None):
         """The fine-level mesh used at ``accuracy`` (for plots and checks):
