@@ -5,6 +5,9 @@ import numpy as np
 from scipy.spatial import cKDTree
 
 from .._constants import F
+from .extrapolation import resolution
+from .meshes import build_mesh
+from .solutions import flow_solution, gouy_scale, scaled_solution
 from ..doublelayer import gouy_chapman_potential
 from ..wall import isolated_wall_potential
 from ..profiles import FieldTotals
@@ -244,8 +247,6 @@ def _wall_distance(P, wall_edges):
 
 def section_profiles_factory(channel, cond, models, accuracy):
     """The ``profiles`` callable of a section kernel result."""
-    from ._kernel import _gouy, resolution, scaled_solution, flow_solution
-    from ._meshes import build_mesh
 
     def make(pressure_gradient=1.0, field=1.0):
         b = cond.flat()
@@ -272,7 +273,7 @@ def section_profiles_factory(channel, cond, models, accuracy):
                 phi = gouy_chapman_potential(zc, phi_w, np.exp(-dist / lam))
                 ueo_s = np.full_like(phi, -phi_w)
             else:
-                gouy = _gouy(lam, z, value) if (name == "pb" and bk.wall.dirichlet) else None
+                gouy = gouy_scale(lam, z, value) if (name == "pb" and bk.wall.dirichlet) else None
                 mesh = build_mesh(kind, dims, n, lam, gouy)
                 r = scaled_solution(mesh, (kappa * L) ** 2, w, z, bk.wall.name, value, name)
                 phi, u = r["phi"], r["u"]

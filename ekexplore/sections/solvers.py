@@ -1,7 +1,7 @@
 """The 2D problems on a section mesh, in scaled units.
 
 Lengths are scaled by the reference length L, the potential by kT/e
-(phi = e psi / kT). On a :class:`~ekexplore.sections._mesh.Mesh` with
+(phi = e psi / kT). On a :class:`~ekexplore.sections.assembly.Mesh` with
 stiffness K, lumped nodal areas m and lumped wall lengths b:
 
 * flow:      K u = m            (u = 0 on the wall), so u_p = (G L^2/eta) u;
@@ -21,7 +21,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from ..doublelayer import donnan_potential, gouy_chapman_potential
-from ._mesh import factorize
+from .assembly import factorize
 
 __all__ = ["flow_profile", "harmonic_extension", "solve_potential"]
 
