@@ -46,9 +46,11 @@ def test_tube_geometry():
 
 
 @pytest.mark.parametrize("channel, mean_velocity_per_G_eta", [
-    # Plane Poiseuille, slit of full gap h: U = h^2 G / (12 eta)  (shared/references.md)
+    # Plane Poiseuille, slit of full gap h: U = h^2 G / (12 eta) (White, F. M. (2006).
+    # Viscous Fluid Flow, 3rd ed., McGraw-Hill, sec. 3-2; common practice)
     (Slit(gap=4e-6), lambda ch: ch.gap**2 / 12.0),
-    # Hagen-Poiseuille, tube of radius a: U = a^2 G / (8 eta)  (shared/references.md)
+    # Hagen-Poiseuille, tube of radius a: U = a^2 G / (8 eta) (White 2006, same book,
+    # sec. 3-3; common practice)
     (Tube(diameter=4e-6), lambda ch: (ch.diameter / 2) ** 2 / 8.0),
 ])
 def test_poiseuille_number_from_the_closed_form_flow(channel, mean_velocity_per_G_eta):
