@@ -172,3 +172,15 @@ def test_base_class_is_abstract():
 def test_repr_names_the_parameters():
     assert repr(Slit(gap=1e-6)).startswith("Slit(gap=")
     assert repr(Tube(diameter=1e-6)).startswith("Tube(diameter=")
+
+
+def test_slit_width_is_a_declared_parameter():
+    # gap and width broadcast together, and a mismatch names the width
+    s = Slit(gap=np.array([1e-6, 2e-6]), width=np.array([[1e-3], [2e-3]]))
+    assert s.shape == (2, 2)
+    with pytest.raises(ValueError, match="width has shape"):
+        Slit(gap=np.array([1e-6, 2e-6, 3e-6]), width=np.array([1e-3, 2e-3])).shape
+    import ekexplore as ek
+    with pytest.raises(ValueError, match="width has shape"):
+        ek.solve(Slit(gap=np.array([1e-6, 2e-6, 3e-6]), width=np.array([1e-3, 2e-3])),
+                 ek.Electrolyte.salt("KCl", 1.0), ek.Wall(zeta=-0.05))

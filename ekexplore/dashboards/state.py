@@ -16,11 +16,6 @@ import traitlets
 import ekexplore as ek
 from ekexplore.models import MODEL_CHOICES
 
-try:  # the 2D sections register themselves in ek.channels.SHAPES on import
-    import ekexplore.sections  # noqa: F401
-except ImportError:  # pragma: no cover - a core without 2D sections
-    pass
-
 __all__ = ["State", "CUSTOM", "SIZE_RANGE", "CONCENTRATION_RANGE", "SECTION_ACCURACY",
            "listed_shapes"]
 
