@@ -24,8 +24,9 @@ from ekexplore.dashboards.state import CUSTOM, State  # noqa: E402
 RTOL = 1e-12
 
 
-def reference(salt="KCl", c=1.0, zeta=-0.05, gap=1e-6, model="auto", T=298.15):
-    return ek.solve(ek.Slit(gap=gap), ek.Electrolyte.salt(salt, c, temperature=T),
+def reference(salt="KCl", c=1.0, zeta=-0.05, gap=1e-6, model="auto", T=298.15,
+              width=State().width):
+    return ek.solve(ek.Slit(gap=gap, width=width), ek.Electrolyte.salt(salt, c, temperature=T),
                     ek.Wall(zeta=zeta), model=model)
 
 
@@ -37,12 +38,24 @@ def test_state_builds_public_objects():
     assert_allclose(r.matrix, ref.matrix, rtol=RTOL)
 
 
-def test_state_shape_change_resets_parameters():
+def test_state_shape_change_keeps_the_size():
+    # the shape switch keeps the size the user set where the new shape has one
     s = State()
     s.size = 3e-7
     s.shape = "Tube"
     assert s.size_name == "diameter"
-    assert s.shape_params == {"diameter": ek.SHAPES["Tube"].parameter_info["diameter"].default}
+    assert s.shape_params == {"diameter": 3e-7}
+    s.shape = "Ellipse"                       # main size kept, default proportions
+    assert s.shape_params["width"] == 3e-7
+    ratio = (ek.SHAPES["Ellipse"].parameter_info["height"].default
+             / ek.SHAPES["Ellipse"].parameter_info["width"].default)
+    assert_allclose(s.shape_params["height"], 3e-7 * ratio, rtol=1e-12)
+    s.shape = "Slit"
+    s.size, s.width = 2e-7, 1.5e-6
+    s.shape = "Rectangle"                     # a slit's gap is the depth, its width the width
+    assert s.shape_params == {"width": 1.5e-6, "depth": 2e-7}
+    s.shape = "Slit"
+    assert s.shape_params == {"gap": 2e-7}
 
 
 def test_state_custom_symmetric_electrolyte():
@@ -77,9 +90,9 @@ def test_explorer_readouts_follow_the_concentration_slider():
     assert_allclose(v.sources["potential"].data["y"], np.asarray(p.potential) * 1e3, rtol=RTOL)
     assert not np.allclose(before_phi[:5], v.sources["potential"].data["y"][:5])
     # the whole-channel table shows the conductance in engineering units
-    from ekexplore.dashboards.units import eng
+    from ekexplore.dashboards.units import current
     cond = ref.conductances(v.state.length)["conductance"]
-    assert eng(float(cond), "A") in v.matrix.value
+    assert current(float(cond)) in v.matrix.value
 
 
 def test_explorer_widgets_set_state_in_si_units():
@@ -104,7 +117,8 @@ def test_explorer_verdict_uses_the_thin_model_ratio():
     ratio = float(thin.electroosmotic / r.electroosmotic)
     assert ratio > 1.05           # overlapping layers: the slip model overestimates
     assert "overlap" in v.verdict.value
-    assert f"{ratio:.2g}x" in v.verdict.value
+    assert f"{ratio:.2g}×" in v.verdict.value
+    assert "against pb" in v.verdict.value
 
 
 def test_explorer_bad_input_shows_message_and_keeps_plots():
@@ -112,11 +126,14 @@ def test_explorer_bad_input_shows_message_and_keeps_plots():
     good = dict(v.sources["potential"].data)
     v.controls.stern.value = -5.0                   # negative conductance [nS]
     assert v.status.kind == "error"
-    assert "stern_conductance" in v.status.message
+    # named as the screen labels it, in the screen's unit; the field keeps 0
+    assert "Stern cond. -5 nS: enter a value from 0 to 1000 nS" in v.status.message
+    assert "up to date" not in v.status.message
+    assert v.controls.stern.value == 0.0 and v.state.stern_conductance == 0.0
     assert "Traceback" not in v.status.widget.value
     assert v.sources["potential"].data is not None
     assert_allclose(v.sources["potential"].data["y"], good["y"])
-    v.controls.stern.value = 0.0                    # recovers
+    v.controls.stern.value = 1.0                    # recovers
     assert v.status.kind == "ok"
 
 
@@ -124,7 +141,7 @@ def test_explorer_outside_solver_range_is_a_message():
     v = ExplorerView(State())
     v.controls.concentration.value = 1000.0
     v.controls.size.value = 1000.0                  # 1 mm at 1 M: kappa*a ~ 1e6
-    assert v.status.kind == "error" and "kappa" in v.status.message
+    assert v.status.kind == "error" and "κ·a" in v.status.message
 
 
 def test_explorer_lists_every_registered_shape():
