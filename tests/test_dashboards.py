@@ -290,3 +290,74 @@ def test_explorer_near_wall_view_uses_wall_distance():
     assert v.grids["wall"].visible and not v.grids["across"].visible
     spans = v.debye_markers["wall"].data["x"]
     assert_allclose(spans, float(ref.debye_length) * k, rtol=1e-12)
+
+
+# ---- honest inputs ----------------------------------------------------------------
+def test_typed_value_outside_the_slider_widens_it_where_physics_allows():
+    v = ExplorerView(State())
+    v.controls.zeta.value = -400.0                   # beyond the slider's -200 mV
+    assert v.controls.zeta.min <= -400.0 and v.controls.zeta.value == -400.0
+    assert_allclose(v.state.zeta, -0.4, rtol=1e-12)
+    v.controls.size.value = 0.002                    # 2 nm, below the slider's 5 nm
+    assert_allclose(v.state.size, 2e-9, rtol=1e-12)
+    assert 10 ** v.controls.size.min <= 0.002
+
+
+@pytest.mark.parametrize("control, typed, message", [
+    ("concentration", 0.0, "salt conc. 0 mM: enter a value from 0.0001 to 5000 mM"),
+    ("zeta", -999.0, "ζ -999 mV: enter a value from -600 to 600 mV"),
+    ("temperature", 150.0, "temperature 150 °C: enter a value from 0 to 100 °C"),
+    ("size", -1.0, "gap (wall to wall) -1 µm: enter a value from 0.001 to 10000 µm"),
+])
+def test_typed_value_out_of_range_is_refused_in_screen_words(control, typed, message):
+    v = ExplorerView(State())
+    before_state = v.state.trait_values()
+    good = np.array(v.sources["potential"].data["y"])
+    widget = getattr(v.controls, control)
+    old = widget.value
+    widget.value = typed
+    assert widget.value == old                        # no silent clamping either
+    assert v.state.trait_values() == before_state
+    assert v.status.kind == "error"
+    assert message in v.status.message, v.status.message
+    assert "up to date" not in v.status.message
+    assert_allclose(v.sources["potential"].data["y"], good)
+
+
+def test_library_messages_reach_the_screen_in_its_words():
+    v = ExplorerView(State())
+    v.state.zeta = -0.9                               # set directly, past the widget
+    assert v.status.kind == "error"
+    assert "ζ -900 mV: enter a value from -600 to 600 mV" in v.status.message
+    assert "zeta" not in v.status.message and " V " not in v.status.message
+
+
+# ---- exported code ------------------------------------------------------------------
+def test_code_cell_includes_the_driving_and_reproduces_the_device():
+    st = State(shape="Tube", size=3e-6, voltage=120.0, pressure_drop=2e3, length=7e-3,
+               channels=3)
+    d = DeviceView(st)
+    ns = {}
+    exec(compile(d.export.code.value, "<show code>", "exec"), ns)
+    assert_allclose(float(ns["flow"]), d.last.flow, rtol=RTOL)
+    assert_allclose(float(ns["current"]), d.last.current, rtol=RTOL)
+    reg = RegimesView(State(salt="NaCl", concentration=3.0), n=6)
+    assert "ek.Electrolyte.salt('NaCl', 3.0" in reg.export.code.value
+
+
+def test_code_cell_is_readable_and_quotes_every_name():
+    import ast
+    st = State(concentration=np.float64(2.5), zeta=np.float64(-0.03))
+    code = st.code()
+    assert "np.float64" not in code and "2.5" in code
+    # a crafted state: names that would be code if pasted unquoted
+    evil = "x=__import__('os').system('echo owned')"
+    st.shape_params = {"gap": 1e-6, evil: 1.0}
+    st.salt = "KCl', 1.0); __import__('os'); ('"
+    code = st.code()
+    tree = ast.parse(code)
+    names = {n.id for n in ast.walk(tree) if isinstance(n, ast.Name)}
+    assert names <= {"ek", "electrolyte", "wall", "channel", "result", "print", "length",
+                     "voltage", "pressure_drop", "channels", "c", "flow", "current", "float"}
+    consts = [n.value for n in ast.walk(tree) if isinstance(n, ast.Constant)]
+    assert evil in consts and st.salt in consts

@@ -419,6 +419,7 @@ class SetupControls:
         self.size.description = (f"{cls.parameter_info[size_name].label} [µm]"
                                  if cls else "size [µm]")
         self.size.tooltip = self.size.description
+        self.size._h_name = cls.parameter_info[size_name].label if cls else "size"
         for p in (cls.parameters if cls else ()):
             if p == size_name:
                 continue
