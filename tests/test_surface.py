@@ -557,3 +557,55 @@ def test_regulated_zeta_reproduces_its_charge_in_the_fixed_potential_kernels(mod
         reg = regulated_wall(model, m, 15e-9, e, Surface.silica(), 7.5)
         res = ek.solve(shape, e, ek.Wall(zeta=reg["zeta"]), model=model)
         assert_allclose(res.wall_charge, reg["charge_density"], rtol=2e-6)
+
+
+# ---------------------------------------------------------------------------
+# the wall condition seen from the diffuse layer: sigma(zeta)
+# ---------------------------------------------------------------------------
+def test_wall_charge_closes_the_isolated_balance():
+    # at the isolated wall's zeta, the charge the sites carry behind the Stern
+    # layer is the Grahame charge of the diffuse layer
+    conc = np.logspace(-3, 3, 13)
+    e = ek.Electrolyte.salt("KCl", conc)
+    for s, pH in ((Surface.silica(), 7.3), (Surface.alumina(0.8), np.array([[5.0], [10.0]]))):
+        w = s.isolated(e, pH=pH)
+        assert_allclose(s.wall_charge(w.zeta, pH), w.charge_density, rtol=1e-10)
+    # Behrens & Grier closed form read the other way: sigma from psi_d, psi_0 = psi_d + sigma/C
+    ref = np.array([bg_silica_scalar(c, 7.3) for c in conc])
+    assert_allclose(Surface.silica().wall_charge(ref[:, 0], 7.3), ref[:, 1], rtol=1e-10)
+
+
+def test_wall_charge_derivative_and_antiderivative():
+    rng = np.random.default_rng(3)
+    zeta = rng.uniform(-0.3, 0.3, 60)
+    pH = rng.uniform(3, 11, 60)
+    h = 1e-6
+    VT = KB * 298.15 / E
+    x, wq = np.polynomial.legendre.leggauss(60)
+    for s in (Surface.silica(), Surface.alumina(0.2),
+              Surface([Site(4.0, 1e18), Site(9.0, 3e18, charge=1)], 5.0)):
+        num = (s.wall_charge(zeta + h, pH) - s.wall_charge(zeta - h, pH)) / (2 * h)
+        d = s.wall_charge_derivative(zeta, pH)
+        assert np.all(d <= 0)
+        # the Stern layer in series: |d sigma/d zeta| < C
+        assert np.all(-d < s.stern_capacitance)
+        assert_allclose(d, num, rtol=1e-5, atol=1e-8 * np.max(np.abs(num)))
+        phi = zeta / VT
+        nodes = 0.5 * (x[:, None] + 1) * phi
+        quad = 0.5 * phi * np.sum(wq[:, None] * s._diffuse_terms(nodes, pH, s.stern_capacitance
+                                                                 * VT)[0], axis=0)
+        c_s = s.stern_capacitance * VT
+        free = s._diffuse_terms(phi, pH, c_s)[2] - s._diffuse_terms(0 * phi, pH, c_s)[2]
+        assert_allclose(free, quad, rtol=1e-9, atol=1e-12)
+
+
+def test_wall_charge_without_stern_drop_is_the_site_charge():
+    # a very large Stern capacitance puts the charged plane at zeta
+    # (to first order the gap is the Stern drop sigma/C times the slope of
+    # the sites)
+    zeta = np.linspace(-0.2, 0.1, 7)
+    sites = Surface.silica().site_charge(zeta, 8.0)
+    sig = Surface.silica(stern_capacitance=1e3).wall_charge(zeta, 8.0)
+    first_order = np.abs(Surface.silica().site_charge_derivative(zeta, 8.0) * sites / 1e3)
+    assert np.max(np.abs(sig / sites - 1)) < 0.02
+    assert_allclose(np.abs(sig - sites), first_order, rtol=0.05)
