@@ -42,12 +42,17 @@ from .doublelayer import PB_PHI_MAX, wall_potential_estimate
 
 __all__ = ["ModelSpec", "MODEL_TABLE", "MODEL_NAMES", "MODEL_CHOICES", "PHI_MAX",
            "KAPPA_SIZE_RANGE", "ERROR_METHOD", "estimated_model_errors", "choose_models",
-           "geometry_index", "auto_choice"]
+           "geometry_index", "auto_choice", "AccuracyWarning"]
 
 #: Largest scaled wall potential |z e zeta / kT| any model accepts (the pb solver's).
 PHI_MAX = PB_PHI_MAX
 #: kappa x half-size range any model accepts.
 KAPPA_SIZE_RANGE = (1e-3, 1e5)
+
+
+class AccuracyWarning(UserWarning):
+    """A numerical solve missed the requested accuracy; the result's
+    ``error_estimate`` says what was reached."""
 
 
 @dataclass(frozen=True)
