@@ -7,6 +7,7 @@ from .medium import water_relative_permittivity, water_permittivity, water_visco
 from .electrolyte import Ion, ION_TABLE, SALTS, Electrolyte, debye_length
 from .wall import (Wall, grahame_charge, grahame_potential, diffuse_layer_conductance,
                    bikerman_conductance)
+from .surface import Surface, Site
 
 from .channels import Channel, Slit, Tube, SHAPES, register_shape
 from .doublelayer import ConvergenceError
@@ -24,6 +25,6 @@ __all__ = [
     "water_relative_permittivity", "water_permittivity", "water_viscosity", "water_density",
     "Ion", "ION_TABLE", "SALTS", "Electrolyte", "debye_length",
     "Wall", "grahame_charge", "grahame_potential", "diffuse_layer_conductance",
-    "bikerman_conductance",
+    "bikerman_conductance", "Surface", "Site",
 ]
 __version__ = "0.1.0"

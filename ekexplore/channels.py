@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._validate import check_range
+from ._validate import broadcast_named, check_range
 
 __all__ = ["Channel", "Slit", "Tube", "SIZE_MIN", "SIZE_MAX", "SHAPES", "ParameterInfo",
            "register_shape"]
@@ -69,7 +69,7 @@ class Channel:
     @property
     def shape(self):
         """Broadcast shape of the size parameters."""
-        return np.broadcast_shapes(*(np.shape(getattr(self, p)) for p in self.parameters))
+        return broadcast_named({p: np.shape(getattr(self, p)) for p in self.parameters})
 
     @property
     def area(self):

@@ -11,9 +11,10 @@ from types import MappingProxyType
 import numpy as np
 from scipy import constants
 
-from ._validate import check_nonnegative, check_positive, check_range
-from .conductivity import ION_RADIUS, MOBILITY_MODELS, msa_factors, walden_ratio
 from . import chemistry
+from ._validate import (broadcast_named, check_choice, check_integer, check_nonnegative,
+                        check_positive, check_range)
+from .conductivity import ION_RADIUS, MOBILITY_MODELS, msa_factors, walden_ratio
 from .medium import check_temperature, water_density, water_permittivity, water_viscosity
 
 __all__ = ["Ion", "ION_TABLE", "SALTS", "Electrolyte", "debye_length"]
@@ -67,9 +68,7 @@ class Ion:
     radius: float | None = None
 
     def __post_init__(self):
-        if not isinstance(self.valence, (int, np.integer)) or self.valence == 0:
-            raise ValueError(f"valence of ion {self.name!r} = {self.valence!r} must be a "
-                             "non-zero integer")
+        check_integer(f"valence of ion {self.name!r}", self.valence, nonzero=True)
         check_range(f"diffusivity of ion {self.name!r}", self.diffusivity, 1e-12, 1e-7,
                     unit="m^2/s")
         if self.radius is not None:
@@ -279,7 +278,9 @@ class Electrolyte:
         cs = [check_nonnegative(f"concentration of {ion.name}", c, unit="mol/m^3")
               for ion, c in zip(ions, concentrations)]
         T = check_temperature(temperature)
-        shape = np.broadcast_shapes(T.shape, *(c.shape for c in cs))
+        shape = broadcast_named({"temperature": T.shape,
+                                 **{f"concentration of {i.name}": c.shape
+                                    for i, c in zip(ions, cs)}})
         self._ions = ions
         self._c = np.stack([np.broadcast_to(c, shape) for c in cs]).astype(float)
         self._c.setflags(write=False)
@@ -326,6 +327,8 @@ class Electrolyte:
         >>> float(e.ionic_strength)
         3.0
         """
+        if not isinstance(name, str):
+            check_choice("salt name", name, tuple(SALTS))  # a list or array: named
         if name not in SALTS:
             raise ValueError(f"salt name {name!r} is not a preset; choose one of "
                              f"{', '.join(SALTS)} or build Electrolyte(ions, concentrations)")
@@ -359,8 +362,7 @@ class Electrolyte:
         >>> float(e.ionic_strength)
         4.0
         """
-        if not isinstance(valence, (int, np.integer)) or not 1 <= valence <= 4:
-            raise ValueError(f"valence = {valence!r} must be an integer in [1, 4]")
+        valence = check_integer("valence", valence, 1, 4)
         c = check_nonnegative("concentration", concentration, unit="mol/m^3")
         ions = (Ion(f"cation{valence}+", int(valence), diffusivity_cation),
                 Ion(f"anion{valence}-", -int(valence), diffusivity_anion))

@@ -10,9 +10,10 @@ import itertools
 
 import numpy as np
 
+from ._validate import check_choice, check_scalar
 from .channels import SHAPES
-from .electrolyte import Electrolyte
-from .transport import solve
+from .electrolyte import SALTS, Electrolyte
+from .transport import MODEL_CHOICES, solve
 from .wall import Wall
 
 __all__ = ["sweep", "design_table"]
@@ -54,9 +55,14 @@ def design_table(grid=None, table=None, **fixed):
             raise ValueError(f"table: columns must have equal length, got lengths {sorted(lens)}")
         rows = lens.pop()
         cols = tcols
+    if table is not None and rows == 0:
+        raise ValueError(f"table has no rows (columns {sorted(cols)}); give at least one design")
     if grid:
         names = list(grid)
         values = [np.asarray(grid[n]).ravel() for n in names]
+        for n, v in zip(names, values):
+            if v.size == 0:
+                raise ValueError(f"grid[{n!r}] is empty; give at least one value")
         combos = list(itertools.product(range(rows), *[range(len(v)) for v in values]))
         idx = np.array(combos, dtype=int).reshape(len(combos), -1)
         cols = {k: v[idx[:, 0]] for k, v in cols.items()}
@@ -143,9 +149,16 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
     """
     import pandas as pd
 
-    if shape not in SHAPES:
-        raise ValueError(f"shape = {shape!r}; choose one of {', '.join(SHAPES)}")
+    check_choice("shape", shape, tuple(SHAPES))
+    check_choice("salt", salt, tuple(SALTS))
+    check_choice("model", model, MODEL_CHOICES)
+    tol = check_scalar("tol", tol, 1e-6, 1.0)
     cols = design_table(grid, table, **fixed)
+    missing = [p for p in SHAPES[shape].parameters if p not in cols]
+    if missing:
+        info = SHAPES[shape].parameter_info
+        listed = ", ".join(f"{p!r} ({info[p].label})" if p in info else repr(p) for p in missing)
+        raise ValueError(f"sweep: shape {shape!r} needs {listed} in grid, table or as a value")
     if "concentration" not in cols:
         raise ValueError("sweep: give 'concentration' [mol/m^3] in grid, table or as a value")
     if not any(k in cols for k in ("zeta", "charge_density")):

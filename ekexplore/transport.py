@@ -13,7 +13,8 @@ from __future__ import annotations
 import numpy as np
 
 from ._state import Conditions
-from ._validate import check_finite_result, check_positive, check_range
+from ._validate import (broadcast_named, check_choice, check_finite_result, check_positive,
+                        check_range, check_scalar)
 from .channels import Channel
 from .doublelayer import PB_PHI_MAX
 from .electrolyte import Electrolyte
@@ -26,7 +27,10 @@ MODEL_CHOICES = ("auto", "thin", "dh", "pb")
 
 
 def _conditions(channel, electrolyte, wall):
-    shape = np.broadcast_shapes(channel.shape, electrolyte.shape, wall.shape)
+    wall_name = "zeta" if wall.condition == "potential" else "charge_density"
+    shape = broadcast_named({**{p: np.shape(getattr(channel, p)) for p in channel.parameters},
+                             "electrolyte (concentration, temperature)": electrolyte.shape,
+                             f"wall ({wall_name}, stern_conductance)": wall.shape})
     def bc(a):
         return np.broadcast_to(np.asarray(a, dtype=float), shape)
     def bcn(a):  # (n, *own_shape) -> (n, *shape), aligning the trailing axes
@@ -107,11 +111,10 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None):
         raise ValueError(f"electrolyte must be an Electrolyte, got {electrolyte!r}")
     if not isinstance(wall, Wall):
         raise ValueError(f"wall must be a Wall, got {wall!r}")
-    if model not in MODEL_CHOICES:
-        raise ValueError(f"model = {model!r}; choose one of {', '.join(MODEL_CHOICES)}")
-    tol = float(check_range("tol", tol, 1e-6, 1.0))
+    model = check_choice("model", model, MODEL_CHOICES)
+    tol = check_scalar("tol", tol, 1e-6, 1.0)
     if accuracy is not None:
-        accuracy = float(check_range("accuracy", accuracy, 1e-9, 0.1))
+        accuracy = check_scalar("accuracy", accuracy, 1e-9, 0.1)
     cond = _conditions(channel, electrolyte, wall)
     K = cond.kappa * np.broadcast_to(channel.half_size, cond.shape)
     check_range("kappa*half_size", K, 1e-3, 1e5,

@@ -9,7 +9,7 @@ import math
 import numpy as np
 from scipy import constants
 
-from ._validate import check_range
+from ._validate import broadcast_named, check_range
 
 __all__ = ["Wall", "ZETA_MAX", "grahame_charge", "grahame_potential", "flat_layer_integrals",
            "diffuse_layer_conductance", "bikerman_conductance"]
@@ -70,6 +70,7 @@ class Wall:
                                       SIGMA_MAX, unit="C/m^2")
         self._stern = check_range("stern_conductance", stern_conductance, 0.0, STERN_MAX,
                                   unit="S")
+        self.shape  # refuse shapes that do not broadcast, naming them
 
     @property
     def condition(self):
@@ -99,7 +100,9 @@ class Wall:
     @property
     def shape(self):
         """Broadcast shape of the wall parameters."""
-        return np.broadcast_shapes(self._value.shape, self._stern.shape)
+        name = "zeta" if self._cond == "potential" else "charge_density"
+        return broadcast_named({name: self._value.shape,
+                                "stern_conductance": self._stern.shape})
 
     def __repr__(self):
         name = "zeta" if self._cond == "potential" else "charge_density"

@@ -156,7 +156,7 @@ def test_symmetric_salt(z):
     # the default lowers them with concentration (interionic friction), never raises
     d = Electrolyte.symmetric(z, c, diffusivity_cation=1.1e-9,
                               diffusivity_anion=1.7e-9).diffusivities
-    assert np.all(d < e.diffusivities) and np.all(d > 0.5 * e.diffusivities)
+    assert np.all(d < e.diffusivities) and np.all(d > 0)
     # Debye length of a z:z salt is that of a 1:1 salt at z^2 c (same I).
     assert_allclose(e.debye_length, debye_length(z**2 * c), rtol=1e-14)
 

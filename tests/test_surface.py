@@ -1,0 +1,310 @@
+"""Charge-regulating walls: site chemistry, the isolated wall, and the limits.
+
+Outside sources checked here:
+
+- Behrens, S. H. & Grier, D. G. (2001), "The charge of glass and silica
+  surfaces", J. Chem. Phys. 115, 6716, doi:10.1063/1.1404988: the basic Stern
+  model of silanol dissociation (their equations for SiOH = SiO- + H+ with
+  the proton activity at the surface from Boltzmann's law, the Stern layer,
+  and Grahame's relation), with their stated parameters pK 7.5, 8 sites/nm^2,
+  C = 2.9 F/m^2.
+- Kirby, B. J. & Hasselbrink, E. F. (2004), "Zeta potential of microfluidic
+  substrates: 1. Theory, experimental techniques, and effects on
+  separations", Electrophoresis 25, 187, doi:10.1002/elps.200305754: the zeta
+  potential of silica falls roughly in proportion to the logarithm of the
+  counter-ion concentration.
+- Grahame, D. C. (1947), Chem. Rev. 41, 441, doi:10.1021/cr60130a002: the
+  closed form sigma = 2 eps kappa (kT/e) sinh(e psi/2kT) for a 1:1 salt.
+- Malmberg, C. G. & Maryott, A. A. (1956), J. Res. NBS 56, 1,
+  doi:10.6028/jres.056.001: permittivity of water (used by the independent
+  solutions written here).
+"""
+import numpy as np
+import pytest
+from numpy.testing import assert_allclose
+from scipy import constants
+from scipy.optimize import brentq
+
+import ekexplore as ek
+from ekexplore.surface import Site, Surface
+
+E = constants.e
+KB = constants.k
+
+
+def eps_water(T):
+    """Malmberg & Maryott (1956) fit, written out here independently of the package."""
+    t = T - 273.15
+    return (87.740 - 0.40008 * t + 9.398e-4 * t**2 - 1.410e-6 * t**3) * constants.epsilon_0
+
+
+def bg_silica_scalar(c_mM, pH, T=298.15, pK=7.5, gamma=8e18, C=2.9):
+    """Behrens & Grier (2001) basic Stern model for a 1:1 salt, solved per point
+    with brentq on the charge: psi_d from the sites and the Stern layer,
+
+        psi_d = (kT/e) ln(-sigma / (e Gamma + sigma)) + (pK - pH)(kT/e) ln 10 - sigma/C,
+
+    must equal psi_d from Grahame's closed form (2kT/e) asinh(sigma/(2 eps kappa kT/e)).
+    Returns (zeta [V], sigma [C/m^2])."""
+    VT = KB * T / E
+    eps = eps_water(T)
+    kappa = np.sqrt(2 * E**2 * c_mM * constants.N_A / (eps * KB * T))
+
+    def grahame_psi(s):
+        return 2 * VT * np.arcsinh(s / (2 * eps * kappa * VT))
+
+    def mismatch(s):
+        sites = VT * np.log(-s / (E * gamma + s)) + (pK - pH) * VT * np.log(10) - s / C
+        return grahame_psi(s) - sites
+
+    s = brentq(mismatch, -E * gamma * (1 - 1e-14), -1e-40, xtol=1e-300, rtol=1e-15,
+               maxiter=500)
+    return grahame_psi(s), s
+
+
+# ---------------------------------------------------------------------------
+# isolated silica wall: Behrens & Grier
+# ---------------------------------------------------------------------------
+def test_silica_preset_parameters_are_behrens_grier():
+    # Behrens & Grier (2001), stated parameters: pK 7.5, 8 nm^-2, 2.9 F/m^2
+    s = Surface.silica()
+    assert float(s.sites[0].pK[0]) == 7.5
+    assert float(s.sites[0].density) == 8e18
+    assert float(s.stern_capacitance) == 2.9
+    assert s.sites[0].charges == (0, -1)
+
+
+@pytest.mark.parametrize("pH", [4.0, 5.0, 5.7, 7.0, 8.5, 10.0])
+def test_isolated_silica_against_independent_solution(pH):
+    # Behrens & Grier (2001) basic Stern model with their parameters, solved
+    # independently per point (brentq on the charge, Grahame's closed form).
+    # Both solutions are converged to near machine precision; 1e-9 allows for
+    # the different orders of the floating-point operations.
+    conc = np.array([1e-3, 1e-2, 0.1, 1.0, 10.0, 100.0, 1000.0])
+    wall = Surface.silica().isolated(ek.Electrolyte.salt("KCl", conc), pH=pH)
+    ref = np.array([bg_silica_scalar(c, pH) for c in conc])
+    assert_allclose(wall.zeta, ref[:, 0], rtol=1e-9)
+    assert_allclose(wall.charge_density, ref[:, 1], rtol=1e-9)
+    # dissociated fraction alpha = -sigma / (e Gamma), Behrens & Grier's definition
+    assert_allclose(wall.charged_fraction, -ref[:, 1] / (E * 8e18), rtol=1e-9)
+    # Stern layer: psi_0 - psi_d = sigma / C
+    assert_allclose(wall.surface_potential - wall.zeta, ref[:, 1] / 2.9, rtol=1e-9)
+
+
+def test_isolated_silica_other_temperature_and_parameters():
+    # same independent solution at 50 degC with other site parameters
+    T = 323.15
+    e = ek.Electrolyte.salt("NaCl", np.array([0.05, 5.0, 500.0]), temperature=T)
+    s = Surface.silica(pK=6.8, site_density=4.6e18, stern_capacitance=0.3)
+    w = s.isolated(e, pH=6.5)
+    ref = np.array([bg_silica_scalar(c, 6.5, T=T, pK=6.8, gamma=4.6e18, C=0.3)
+                    for c in (0.05, 5.0, 500.0)])
+    assert_allclose(w.zeta, ref[:, 0], rtol=1e-9)
+    assert_allclose(w.charge_density, ref[:, 1], rtol=1e-9)
+
+
+def test_silica_charge_falls_with_salt_and_rises_with_pH():
+    # Behrens & Grier (2001): screening by salt lets the silanols dissociate,
+    # so the charge of silica falls in magnitude as the salt is removed (their
+    # central statement on low-ionic-strength surfaces), and it grows with pH.
+    conc = np.logspace(-3, 3, 25)
+    pH = np.linspace(4, 10, 13)[:, None]
+    w = Surface.silica().isolated(ek.Electrolyte.salt("KCl", conc), pH=pH)
+    sig = -w.charge_density
+    assert np.all(sig > 0) and np.all(w.zeta < 0)
+    assert np.all(np.diff(sig, axis=1) > 0)      # more salt, more charge
+    assert np.all(np.diff(sig, axis=0) > 0)      # higher pH, more charge
+    assert np.all(np.diff(w.zeta, axis=1) > 0)   # more salt, smaller |zeta|
+    assert np.all(np.diff(w.zeta, axis=0) < 0)   # higher pH, larger |zeta|
+    assert np.all(w.charged_fraction < 1) and np.all(w.charged_fraction > 0)
+
+
+def test_silica_zeta_roughly_linear_in_log_concentration():
+    # Kirby & Hasselbrink (2004), part 1: the zeta potential of silica falls
+    # roughly in proportion to the logarithm of the counter-ion concentration.
+    # Check that the slope per decade from 0.1 to 100 mM stays within 15 % of
+    # its mean at pH 6-9 (the basic Stern model gives 18-28 mV per decade).
+    conc = np.array([0.1, 1.0, 10.0, 100.0])
+    for pH in (6.0, 7.0, 8.0, 9.0):
+        z = Surface.silica().isolated(ek.Electrolyte.salt("KCl", conc), pH=pH).zeta
+        slopes = np.diff(z) * 1e3
+        assert np.all(slopes > 10) and np.all(slopes < 40)
+        assert np.max(np.abs(slopes / slopes.mean() - 1)) < 0.15
+
+
+# ---------------------------------------------------------------------------
+# site chemistry
+# ---------------------------------------------------------------------------
+def test_one_pK_fraction_closed_form_any_temperature():
+    # mass action with Boltzmann's law for H+ at the charged plane:
+    # alpha/(1 - alpha) = 10^(pH - pK) exp(e psi0 / kT)
+    rng = np.random.default_rng(1)
+    psi0 = rng.uniform(-0.3, 0.1, 200)
+    pH = rng.uniform(0, 14, 200)
+    T = rng.uniform(275, 370, 200)
+    s = Surface.silica()
+    alpha = 1.0 / (1.0 + 10.0 ** (7.5 - pH) * np.exp(-E * psi0 / (KB * T)))
+    assert_allclose(s.charged_fraction(psi0, pH, T), alpha, rtol=1e-12, atol=1e-300)
+    assert_allclose(s.site_charge(psi0, pH, T), -E * 8e18 * alpha, rtol=1e-12, atol=1e-300)
+
+
+def test_amphoteric_closed_form_and_point_of_zero_charge():
+    # two-pK site (Yates, Levine & Healy 1974): fractions
+    # [MOH2+] : [MOH] : [MO-] = h/K1 : 1 : K2/h, h = surface H+ activity
+    s = Surface.amphoteric(4.0, 9.0, 5e18, 1.0)
+    psi0 = np.linspace(-0.2, 0.2, 9)[:, None]
+    pH = np.linspace(1, 13, 7)
+    h = 10.0 ** (-pH) * np.exp(-E * psi0 / (KB * 298.15))
+    plus, zero, minus = h / 1e-4, 1.0, 1e-9 / h
+    tot = plus + zero + minus
+    assert_allclose(s.site_charge(psi0, pH), E * 5e18 * (plus - minus) / tot, rtol=1e-12,
+                    atol=1e-12 * E * 5e18)
+    assert_allclose(s.charged_fraction(psi0, pH), (plus + minus) / tot, rtol=1e-12)
+    # the point of zero charge of a two-pK site is the mean of its pK values
+    assert_allclose(s.point_of_zero_charge, 6.5, atol=1e-12)
+    assert_allclose(Surface.amphoteric([3.0, 5.0], 8.0, 8e18, 1.0).point_of_zero_charge,
+                    [5.5, 6.5], atol=1e-12)
+    # silica never carries a positive charge in this model: no point of zero charge
+    assert np.isnan(Surface.silica().point_of_zero_charge)
+
+
+def test_isolated_wall_at_point_of_zero_charge_is_uncharged():
+    s = Surface.alumina(stern_capacitance=0.8)
+    w = s.isolated(ek.Electrolyte.salt("KCl", [0.1, 10.0]), pH=float(s.point_of_zero_charge))
+    assert_allclose(w.zeta, 0.0, atol=1e-15)
+    assert_allclose(w.charge_density, 0.0, atol=1e-12)
+    # below the point of zero charge an oxide is positive, above it negative
+    w = s.isolated(ek.Electrolyte.salt("KCl", 1.0), pH=[6.0, 10.0])
+    assert w.zeta[0] > 0 > w.zeta[1]
+    assert w.charge_density[0] > 0 > w.charge_density[1]
+
+
+def test_derivative_and_antiderivative_of_site_charge():
+    # Newton needs d sigma0/d psi0: check it against a central difference, and
+    # the antiderivative (the surface free energy) against a quadrature
+    surfaces = [Surface.silica(),
+                Surface.amphoteric(5.0, 9.0, 3e18, 1.0),
+                Surface([Site(4.2, 2e18, name="carboxyl"), Site(9.5, 1e18, charge=1, name="amine"),
+                         Site((2.0, 6.5, 11.0), 5e17, charge=1, name="triprotic")], 0.5)]
+    rng = np.random.default_rng(7)
+    psi0 = rng.uniform(-0.25, 0.25, 50)
+    pH = rng.uniform(2, 12, 50)
+    h = 1e-6
+    for s in surfaces:
+        num = (s.site_charge(psi0 + h, pH) - s.site_charge(psi0 - h, pH)) / (2 * h)
+        d = s.site_charge_derivative(psi0, pH)
+        assert np.all(d <= 0)
+        assert_allclose(d, num, rtol=1e-6, atol=1e-9 * np.max(np.abs(num)))
+        VT = KB * 298.15 / E
+        # int_0^phi sigma0 dphi' by Gauss-Legendre against the closed form
+        x, wq = np.polynomial.legendre.leggauss(40)
+        phi = psi0 / VT
+        nodes = 0.5 * (x[:, None] + 1) * phi
+        quad = 0.5 * phi * np.sum(wq[:, None] * s._site_terms(nodes, pH)[0], axis=0)
+        free = s._site_terms(phi, pH)[2] - s._site_terms(0.0 * phi, pH)[2]
+        assert_allclose(free, quad, rtol=1e-10, atol=1e-12)
+
+
+def test_user_defined_sites_add_up():
+    # a surface of two site kinds carries the sum of their charges
+    a = Site(4.5, 1e18, name="carboxyl")
+    b = Site(10.0, 2e18, charge=1, name="amine")
+    both = Surface([a, b], 1.0)
+    psi0, pH = np.linspace(-0.1, 0.1, 5), 7.0
+    total = Surface(a, 1.0).site_charge(psi0, pH) + Surface(b, 1.0).site_charge(psi0, pH)
+    assert_allclose(both.site_charge(psi0, pH), total, rtol=1e-14)
+    lo, hi = both.charge_bounds
+    assert_allclose([lo, hi], [-E * 1e18, E * 2e18])
+
+
+# ---------------------------------------------------------------------------
+# limits
+# ---------------------------------------------------------------------------
+@pytest.mark.parametrize("c", [0.01, 1.0, 100.0])
+def test_constant_charge_limit(c):
+    # sites far from their pK (pK -10 at pH >= 9, surface potential above
+    # -0.35 V: undissociated fraction below 1e-13) carry the fixed charge
+    # -e Gamma whatever the potential, so the wall is a constant-charge wall:
+    # zeta from Grahame's closed form (1:1 salt)
+    gamma = 3e17
+    s = Surface(Site(-10.0, gamma), stern_capacitance=2.9)
+    w = s.isolated(ek.Electrolyte.salt("KCl", c), pH=[9.0, 12.0])
+    sigma = -E * gamma
+    T = 298.15
+    kappa = np.sqrt(2 * E**2 * c * constants.N_A / (eps_water(T) * KB * T))
+    zeta = 2 * KB * T / E * np.arcsinh(sigma / (2 * eps_water(T) * kappa * KB * T / E))
+    assert_allclose(w.charge_density, sigma, rtol=1e-9)
+    assert_allclose(w.zeta, zeta, rtol=1e-9)
+
+
+def test_constant_potential_limit():
+    # many amphoteric sites (a large buffer capacity) and a large Stern
+    # capacitance pin the wall at the Nernst potential of the point of zero
+    # charge, zeta = (kT/e) ln 10 (pzc - pH), whatever the salt
+    # (the Nernstian limit of the site-binding model, van Hal, Eijkel &
+    # Bergveld 1996, Adv. Colloid Interface Sci. 69, 31,
+    # doi:10.1016/S0001-8686(96)00307-7)
+    pH = np.array([5.0, 6.0, 8.0, 9.0])[:, None]
+    e = ek.Electrolyte.salt("KCl", [0.1, 10.0, 300.0])
+    nernst = KB * 298.15 / E * np.log(10) * (7.0 - pH)
+    errs = []
+    for gamma, C in ((1e19, 10.0), (1e20, 100.0), (1e21, 1000.0)):
+        z = Surface.amphoteric(6.0, 8.0, gamma, C).isolated(e, pH=pH).zeta
+        errs.append(np.max(np.abs(z - nernst)))
+    # the gap closes as 1/Gamma and 1/C (measured: 32, 5.6, 0.62 mV)
+    assert errs[0] / errs[1] > 4 and errs[1] / errs[2] > 4
+    # left over at 1000 sites/nm^2 and 1000 F/m^2, worst at 300 mM and pH 9:
+    # sigma/C (0.31 mV) plus the site relaxation (about 0.3 mV)
+    assert errs[2] < 1e-2 * np.max(np.abs(nernst))
+
+
+# ---------------------------------------------------------------------------
+# broadcasting and the electrolyte's pH
+# ---------------------------------------------------------------------------
+def test_broadcast_over_surface_electrolyte_and_pH():
+    pK = np.array([[7.0], [7.5], [8.0]])
+    conc = np.array([0.1, 1.0, 10.0, 100.0])
+    w = Surface.silica(pK=pK).isolated(ek.Electrolyte.salt("KCl", conc), pH=7.2)
+    assert w.zeta.shape == (3, 4) and w.charged_fraction.shape == (3, 4)
+    for i, p in enumerate(pK[:, 0]):
+        for j, c in enumerate(conc):
+            ref = bg_silica_scalar(c, 7.2, pK=p)
+            assert_allclose([w.zeta[i, j], w.charge_density[i, j]], ref, rtol=1e-9)
+
+
+def test_pH_from_an_electrolyte_that_has_one():
+    class Buffered(ek.Electrolyte):
+        pH = 8.0
+    e = Buffered(["K+", "Cl-"], [1.0, 1.0])
+    w = Surface.silica().isolated(e)
+    assert_allclose(w.zeta, bg_silica_scalar(1.0, 8.0)[0], rtol=1e-9)
+    with pytest.raises(ValueError, match="pH"):
+        Surface.silica().isolated(ek.Electrolyte.salt("KCl", 1.0))
+
+
+# ---------------------------------------------------------------------------
+# bad input
+# ---------------------------------------------------------------------------
+@pytest.mark.parametrize("make, words", [
+    (lambda: Surface.silica(site_density=-1e18), ["site density", "-1e+18", "1/m^2"]),
+    (lambda: Surface.silica(site_density=0.0), ["site density", "0", "(0"]),
+    (lambda: Surface.silica(stern_capacitance=-2.9), ["stern_capacitance", "-2.9", "F/m^2"]),
+    (lambda: Surface.silica(stern_capacitance=0.0), ["stern_capacitance", "(0, 1000]"]),
+    (lambda: Surface.silica(pK=30.0), ["pK", "30", "[-10, 25]"]),
+    (lambda: Surface.amphoteric(-12.0, 9.0, 8e18, 1.0), ["pK", "-12", "[-10, 25]"]),
+    (lambda: Surface([], 1.0), ["sites", "none"]),
+    (lambda: Surface(["silanol"], 1.0), ["sites", "Site"]),
+    (lambda: Site(7.0, 8e18, charge=0.5), ["charge", "0.5", "[-4, 4]"]),
+    (lambda: Site([1, 2, 3, 4, 5], 8e18), ["pK", "1 to 4", "5"]),
+    (lambda: Surface.silica().site_charge(0.0, 15.0), ["pH", "15", "[0, 14]"]),
+    (lambda: Surface.silica().site_charge(0.0, 7.0, temperature=400.0), ["temperature", "400"]),
+    (lambda: Surface.silica().isolated(ek.Electrolyte.salt("KCl", 1.0), pH=-1.0),
+     ["pH", "-1", "[0, 14]"]),
+    (lambda: Surface.silica().site_charge(np.nan, 7.0), ["surface_potential", "finite"]),
+])
+def test_bad_input_names_parameter_value_and_range(make, words):
+    with pytest.raises(ValueError) as info:
+        make()
+    msg = str(info.value)
+    for w in words:
+        assert w in msg, (w, msg)
