@@ -226,7 +226,7 @@ class Electrolyte:
     pH : array_like, optional
         The pH of a solution built from ions directly (the trace acid or base
         that sets it is not among the ions). Default: from H+ if it is an
-        ion, else neutral water, :math:`pK_w(T)/2`. Recipes
+        ion, else None (not defined). Recipes
         (:meth:`mix`, :meth:`buffer`) compute it.
 
     Raises
@@ -539,12 +539,16 @@ class Electrolyte:
 
         Recipes (:meth:`mix`, :meth:`buffer`) solve it. For an electrolyte
         built from ions: the ``pH`` given to the constructor, else from H+ if
-        it is one of the ions, else neutral water :math:`pK_w(T)/2`.
+        it is one of the ions, else None: an unbuffered salt takes its pH
+        from traces (CO₂ from air brings water to pH 5.6), so it is not
+        guessed; use :meth:`mix` with ``co2="air"`` or give ``pH``.
 
         Examples
         --------
-        >>> f"{float(Electrolyte.salt('KCl', 10.0).pH):.3f}"
-        '6.997'
+        >>> Electrolyte.salt('KCl', 10.0).pH is None
+        True
+        >>> f"{float(Electrolyte.salt('KCl', 10.0, pH=7.0).pH):.1f}"
+        '7.0'
         """
         if self._chem is not None:
             return self._chem["pH"]
@@ -556,16 +560,18 @@ class Electrolyte:
             I = self.ionic_strength / water_density(self._T)
             lg = chemistry.davies_log_gamma(1, I, self._T)
             return -(np.log10(np.maximum(m, 1e-300)) + lg)
-        return np.broadcast_to(0.5 * chemistry.pKw(self._T), self.shape)
+        return None
 
     @property
     def hydrogen_ion_activity(self):
         """Bulk activity of H+, :math:`a_{H^+} = 10^{-pH}` [-] (molal scale).
 
         This is the quantity surface site equilibria use (with the Boltzmann
-        factor of the local potential at a charged plane).
+        factor of the local potential at a charged plane). None where
+        :attr:`pH` is None.
         """
-        return 10.0 ** (-np.asarray(self.pH))
+        pH = self.pH
+        return None if pH is None else 10.0 ** (-np.asarray(pH))
 
     @property
     def species(self):
