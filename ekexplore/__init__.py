@@ -16,13 +16,13 @@ from .doublelayer import ConvergenceError
 from .transport import solve, Result
 from .profiles import Profiles
 from .regimes import estimated_model_errors, regime_verdict
-from .sweep import sweep, design_table
+from .sweep import sweep, design_table, read_sweep, SweepError, SweepWarning
 from .sections import Rectangle, Trapezoid, IsotropicEtch, Ellipse, Polygon
 
 __all__ = [
     "Channel", "Slit", "Tube", "SHAPES", "register_shape", "ConvergenceError",
     "solve", "Result", "Profiles", "estimated_model_errors", "regime_verdict",
-    "sweep", "design_table",
+    "sweep", "design_table", "read_sweep", "SweepError", "SweepWarning",
     "Rectangle", "Trapezoid", "IsotropicEtch", "Ellipse", "Polygon",
     "water_relative_permittivity", "water_permittivity", "water_viscosity", "water_density",
     "Ion", "ION_TABLE", "SALTS", "Electrolyte", "debye_length", "AcidBase",

@@ -69,7 +69,11 @@ class Channel:
     @property
     def shape(self):
         """Broadcast shape of the size parameters."""
-        return broadcast_named({p: np.shape(getattr(self, p)) for p in self.parameters})
+        return broadcast_named(self._parameter_shapes())
+
+    def _parameter_shapes(self):
+        """name -> shape of each parameter that broadcasts over parameter points."""
+        return {p: np.shape(getattr(self, p)) for p in self.parameters}
 
     @property
     def area(self):

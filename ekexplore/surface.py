@@ -206,6 +206,14 @@ class Surface:
 
     Notes
     -----
+    Presets: :meth:`silica` (Behrens & Grier 2001), :meth:`alumina` and
+    :meth:`tantalum_pentoxide` (site parameters of van Hal, Eijkel & Bergveld
+    1996, from memory). There is no polymer preset (PDMS, PMMA, COC): the
+    polymer data of Kirby & Hasselbrink (2004, Electrophoresis 25, 203,
+    doi:10.1002/elps.200305755) are empirical zeta/pC curves, not site
+    parameters, and could not be checked here; build such a wall from its
+    measured zeta with :class:`ekexplore.Wall` instead.
+
     The site pK values are those at 25 °C; no enthalpy of the surface
     reactions is included, so at other temperatures only kT/e changes
     (surface reaction enthalpies are rarely published). The activity of H⁺
@@ -274,6 +282,7 @@ class Surface:
         >>> Surface.silica().sites[0].charges
         (0, -1)
         """
+        pK = as_float_array("pK", pK)   # an array here is one pK per point, never a list of pKs
         return cls(Site(pK, site_density, charge=0, name="silanol"), stern_capacitance,
                    name="silica")
 
@@ -304,7 +313,8 @@ class Surface:
         >>> float(s.point_of_zero_charge)
         8.0
         """
-        return cls(Site((pK_plus, pK_minus), site_density, charge=1, name="amphoteric"),
+        pKs = (as_float_array("pK_plus", pK_plus), as_float_array("pK_minus", pK_minus))
+        return cls(Site(pKs, site_density, charge=1, name="amphoteric"),
                    stern_capacitance, name=name)
 
     @classmethod
@@ -414,6 +424,21 @@ class Surface:
         pzc = 0.5 * (lo + hi)
         return np.where((f_lo > 0) & (f_hi < 0), pzc, np.nan)
 
+    def _flat(self, shape):
+        """A copy whose parameters are broadcast to ``shape`` and raveled: one
+        value per point of a flat batch (for the batched solvers)."""
+        def f(a):
+            return np.broadcast_to(a, shape).reshape(-1)
+        sites = tuple(Site(tuple(f(p) for p in s.pK), f(s.density), s.charge, s.name)
+                      for s in self._sites)
+        return Surface(sites, f(self._C), self._name)
+
+    def _take(self, idx):
+        """A copy of a flat surface (see :meth:`_flat`) at the batch indices ``idx``."""
+        sites = tuple(Site(tuple(p[idx] for p in s.pK), s.density[idx], s.charge, s.name)
+                      for s in self._sites)
+        return Surface(sites, self._C[idx], self._name)
+
     # -- the site charge ---------------------------------------------------------
     def _site_terms(self, phi0, pH):
         """(sigma0 [C/m^2], d sigma0/d phi0 [C/m^2], F0 = int sigma0 dphi0 [C/m^2],
@@ -497,6 +522,93 @@ class Surface:
         psi0, pH, T = self._check_inputs(surface_potential, pH, temperature)
         return self._site_terms(psi0 / _thermal_voltage(T), pH)[3]
 
+    # -- the charge seen from the diffuse layer -----------------------------------
+    def _diffuse_terms(self, phi_d, pH, c_s):
+        """The wall charge as a function of the diffuse-layer potential.
+
+        Scaled: ``phi_d`` = e psi_d/kT, ``c_s`` = C e/kT... in any consistent
+        unit where sigma_0 / c_s is a scaled potential (c_s = C kT/e with the
+        charge in C/m^2). Solves phi_0 - sigma_0(phi_0)/c_s = phi_d (the left
+        side rises with phi_0 with slope >= 1) by bisection in the bracket
+        phi_d + [lo, hi]/c_s and two Newton steps.
+
+        Returns (sigma [C/m^2], d sigma/d phi_d [C/m^2], antiderivative
+        int sigma dphi_d [C/m^2], phi_0, charged fraction). The derivative is
+        s'/(1 - s'/c_s) with s' = d sigma_0/d phi_0 <= 0, and the
+        antiderivative F_0(phi_0) - sigma^2/(2 c_s), F_0 that of the sites.
+        """
+        lo_q, hi_q = self.charge_bounds
+        lo = phi_d + lo_q / c_s
+        hi = phi_d + hi_q / c_s
+        lo, hi = np.broadcast_arrays(lo, hi)
+        lo, hi = lo.copy(), hi.copy()
+        for _ in range(64):
+            mid = 0.5 * (lo + hi)
+            up = mid - self._site_terms(mid, pH)[0] / c_s > phi_d
+            hi = np.where(up, mid, hi)
+            lo = np.where(up, lo, mid)
+        phi0 = 0.5 * (lo + hi)
+        for _ in range(2):
+            sig, dsig = self._site_terms(phi0, pH)[:2]
+            phi0 = phi0 - (phi0 - sig / c_s - phi_d) / (1.0 - dsig / c_s)
+        sig, dsig, free, frac = self._site_terms(phi0, pH)
+        return sig, dsig / (1.0 - dsig / c_s), free - sig**2 / (2.0 * c_s), phi0, frac
+
+    def wall_charge(self, zeta, pH, temperature=T_REF):
+        r"""Charge of the wall [C/m²] when its diffuse layer starts at potential ``zeta``.
+
+        The wall condition of the regulated double layer, for any solver: the
+        sites at the charged plane, :math:`\psi_0 = \zeta + \sigma/C`, carry
+
+        .. math:: \sigma = \sigma_0(\psi_0), \qquad
+                  rac{d\sigma}{d\zeta} = rac{\sigma_0'}{1 - \sigma_0'/C} \le 0
+
+        (:meth:`site_charge`). A solver of the Poisson–Boltzmann equation
+        imposes :math:`arepsilon\,\partial\psi/\partial n = \sigma(\psi)` on
+        the wall, a nonlinear condition whose slope is
+        :meth:`wall_charge_derivative`.
+
+        Parameters
+        ----------
+        zeta : array_like
+            Potential at the start of the diffuse layer [V].
+        pH : array_like
+            Bulk pH [-], 0-14.
+        temperature : array_like, optional
+            [K]. Default 298.15.
+
+        Returns
+        -------
+        ndarray
+            [C/m²].
+
+        Examples
+        --------
+        >>> from ekexplore import Electrolyte
+        >>> s = Surface.silica()
+        >>> w = s.isolated(Electrolyte.salt("KCl", 1.0), pH=7.0)
+        >>> f"{float(s.wall_charge(w.zeta, 7.0) / w.charge_density):.12f}"
+        '1.000000000000'
+        """
+        zeta = as_float_array("zeta", zeta, unit="V")
+        pH = check_range("pH", pH, *PH_RANGE)
+        VT = _thermal_voltage(check_temperature(temperature))
+        return self._diffuse_terms(zeta / VT, pH, self._C * VT)[0]
+
+    def wall_charge_derivative(self, zeta, pH, temperature=T_REF):
+        """Slope of :meth:`wall_charge` with ``zeta`` [F/m²], never positive.
+
+        Examples
+        --------
+        >>> s = Surface.silica()
+        >>> bool(s.wall_charge_derivative(-0.05, 7.0) < 0)
+        True
+        """
+        zeta = as_float_array("zeta", zeta, unit="V")
+        pH = check_range("pH", pH, *PH_RANGE)
+        VT = _thermal_voltage(check_temperature(temperature))
+        return self._diffuse_terms(zeta / VT, pH, self._C * VT)[1] / VT
+
     # -- the isolated wall -------------------------------------------------------
     def isolated(self, electrolyte, pH=None):
         r"""The regulated charge of a flat wall facing a semi-infinite electrolyte.
@@ -570,9 +682,11 @@ class Surface:
         f_lo, f_hi = balance(lo), balance(hi)
         bad = (f_lo < 0) | (f_hi > 0)
         if np.any(bad):
+            k = int(np.flatnonzero(bad.ravel())[0])
             raise ValueError(
                 f"the charge of this surface needs |zeta| > {ZETA_MAX:g} V in this "
-                "electrolyte (beyond the model range); raise the salt concentration")
+                f"electrolyte at point {k} (pH {np.broadcast_to(pH, shape).ravel()[k]:g}; "
+                "beyond the model range); raise the salt concentration")
         # bisection: 1.2 V / 2^70 < 1e-18 V
         for _ in range(70):
             mid = 0.5 * (lo + hi)

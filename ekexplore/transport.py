@@ -28,7 +28,7 @@ MODEL_CHOICES = ("auto", "thin", "dh", "pb")
 
 def _conditions(channel, electrolyte, wall):
     wall_name = "zeta" if wall.condition == "potential" else "charge_density"
-    shape = broadcast_named({**{p: np.shape(getattr(channel, p)) for p in channel.parameters},
+    shape = broadcast_named({**channel._parameter_shapes(),
                              "electrolyte (concentration, temperature)": electrolyte.shape,
                              f"wall ({wall_name}, stern_conductance)": wall.shape})
     def bc(a):

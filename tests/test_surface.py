@@ -278,8 +278,13 @@ def test_pH_from_an_electrolyte_that_has_one():
     e = Buffered(["K+", "Cl-"], [1.0, 1.0])
     w = Surface.silica().isolated(e)
     assert_allclose(w.zeta, bg_silica_scalar(1.0, 8.0)[0], rtol=1e-9)
-    with pytest.raises(ValueError, match="pH"):
-        Surface.silica().isolated(ek.Electrolyte.salt("KCl", 1.0))
+    # an explicit pH wins over the electrolyte's
+    assert_allclose(Surface.silica().isolated(e, pH=6.0).zeta, bg_silica_scalar(1.0, 6.0)[0],
+                    rtol=1e-9)
+    plain = ek.Electrolyte.salt("KCl", 1.0)
+    if getattr(plain, "pH", None) is None:
+        with pytest.raises(ValueError, match="pH"):
+            Surface.silica().isolated(plain)
 
 
 # ---------------------------------------------------------------------------
@@ -301,6 +306,10 @@ def test_pH_from_an_electrolyte_that_has_one():
     (lambda: Surface.silica().isolated(ek.Electrolyte.salt("KCl", 1.0), pH=-1.0),
      ["pH", "-1", "[0, 14]"]),
     (lambda: Surface.silica().site_charge(np.nan, 7.0), ["surface_potential", "finite"]),
+    # 16 C/m^2 of fixed charge in 1 uM salt would need |zeta| far beyond 0.6 V
+    (lambda: Surface(Site(-10.0, 1e20), 1e3).isolated(ek.Electrolyte.salt("KCl", 1e-3),
+                                                      pH=[7.0, 9.0]),
+     ["zeta", "0.6 V", "point 0", "pH 7"]),
 ])
 def test_bad_input_names_parameter_value_and_range(make, words):
     with pytest.raises(ValueError) as info:
@@ -308,3 +317,295 @@ def test_bad_input_names_parameter_value_and_range(make, words):
     msg = str(info.value)
     for w in words:
         assert w in msg, (w, msg)
+
+
+# ---------------------------------------------------------------------------
+# overlapping double layers: regulated slit and tube
+# ---------------------------------------------------------------------------
+from scipy.integrate import solve_bvp  # noqa: E402
+
+from ekexplore._regulated import regulated_layer  # noqa: E402
+
+
+def bvp_regulated(m, R, electrolyte, sites, C, pH, T=298.15):
+    """Independent reference: the regulated Poisson-Boltzmann problem across a
+    slit (m = 0) or tube (m = 1) of half-size R, solved with scipy's
+    collocation solver solve_bvp in s = r/R (wall at s = 1):
+
+        phi'' + (m/s) phi' = -K^2 sum_i z_i w_i exp(-z_i phi),  phi'(0) = 0,
+        phi'(1) = sigma~(phi_0),  phi_0 = phi(1) + phi'(1)/c_s,
+
+    with phi = e psi/kT, K = kappa R, w_i = c_i/sum z^2 c, sigma~ = sigma R e/(eps kT),
+    c_s = C R/eps, and ``sites(phi_0, pH)`` the site charge [C/m^2] written
+    by the caller. Returns (zeta [V], sigma [C/m^2])."""
+    eps = eps_water(T)
+    VT = KB * T / E
+    z = np.array([i.valence for i in electrolyte.ions], dtype=float)
+    c = np.asarray(electrolyte.concentrations, dtype=float).ravel()
+    I = 0.5 * np.sum(z**2 * c)
+    kappa = np.sqrt(2 * E**2 * I * constants.N_A / (eps * KB * T))
+    K = kappa * R
+    w = c / np.sum(z**2 * c)
+    sc = R / (eps * VT)
+    cs = C * R / eps
+
+    def rhs(s, y):
+        rho = np.sum((z * w)[:, None] * np.exp(-z[:, None] * y[0][None]), axis=0)
+        return np.vstack([y[1], -K**2 * rho])
+
+    def bc(ya, yb):
+        return np.array([ya[1], yb[1] - sc * sites(yb[0] + yb[1] / cs, pH)])
+
+    # start: a Gouy-Chapman profile of -2 kT/e at the wall on a mesh graded
+    # toward it; solve_bvp refines the mesh to its tolerance
+    x0 = 0.02 * min(1.0, 1.0 / K)
+    x = x0 * np.expm1(np.log1p(1.0 / x0) * np.linspace(0, 1, 400))
+    s = np.unique(np.clip(1.0 - x, 0.0, 1.0))
+    t = np.tanh(-0.5) * np.exp(-K * (1 - s))
+    y0 = np.vstack([4 * np.arctanh(t), 2 * K * np.sinh(2 * np.arctanh(t))])
+    S = np.array([[0.0, 0.0], [0.0, -float(m)]]) if m else None
+    bc_tol = 1e-11 * max(abs(float(sites(-2.0, pH))) * sc, 1.0)
+    sol = solve_bvp(rhs, bc, s, y0, S=S, tol=1e-9, max_nodes=300000, bc_tol=bc_tol)
+    assert sol.success, sol.message
+    return sol.y[0, -1] * VT, sol.y[1, -1] / sc
+
+
+def silanol_charge(phi0, pH, pK=7.5, gamma=8e18):
+    # Behrens & Grier (2001): sigma = -e Gamma / (1 + 10^(pK - pH) exp(-e psi0/kT))
+    return -E * gamma / (1.0 + 10.0 ** (pK - pH) * np.exp(-phi0))
+
+
+def alumina_charge(phi0, pH, pKp=6.0, pKm=10.0, gamma=8e18):
+    # two-pK site, Yates, Levine & Healy (1974): [MOH2+]:[MOH]:[MO-] = h/K+ : 1 : K-/h
+    h = 10.0 ** (-pH) * np.exp(-phi0)
+    plus, minus = h / 10.0 ** (-pKp), 10.0 ** (-pKm) / h
+    return E * gamma * (plus - minus) / (plus + 1.0 + minus)
+
+
+@pytest.mark.parametrize("m", [0, 1])
+@pytest.mark.parametrize("kappa_a", [0.01, 0.1, 1.0, 10.0, 100.0])
+def test_regulated_silica_channel_against_solve_bvp(m, kappa_a):
+    # silica (Behrens & Grier 2001 parameters) in 0.1 mM KCl, pH 4-10, from
+    # strongly overlapping (kappa a = 0.01) to thin (100) double layers
+    c = 0.1
+    e = ek.Electrolyte.salt("KCl", c)
+    R = kappa_a * float(e.debye_length)
+    pH = np.array([4.0, 5.5, 7.0, 8.5, 10.0])
+    r = regulated_layer(m, R, e, Surface.silica(), pH)
+    ref = np.array([bvp_regulated(m, R, e, silanol_charge, 2.9, p) for p in pH])
+    # the prototype runs at its default accuracy 1e-6 (measured: within 1e-7)
+    assert_allclose(r["zeta"], ref[:, 0], rtol=1e-6)
+    assert_allclose(r["charge_density"], ref[:, 1], rtol=1e-6)
+    # its error estimate (the fine grid's) bounds the error of the answer
+    true = np.abs(r["charge_density"] / ref[:, 1] - 1)
+    assert np.all(true <= r["error"] + 1e-9)
+    assert_allclose(r["charged_fraction"], -r["charge_density"] / (E * 8e18), rtol=1e-6)
+
+
+@pytest.mark.parametrize("m", [0, 1])
+def test_regulated_oxide_channel_in_CaCl2_against_solve_bvp(m):
+    # an amphoteric wall on either side of its point of zero charge, in a 2:1
+    # salt; site parameters of the alumina preset
+    e = ek.Electrolyte.salt("CaCl2", 0.5)
+    pH = np.array([5.0, 7.5, 9.0])
+    for kappa_a in (0.3, 3.0):
+        R = kappa_a * float(e.debye_length)
+        r = regulated_layer(m, R, e, Surface.alumina(stern_capacitance=0.8), pH)
+        ref = np.array([bvp_regulated(m, R, e, alumina_charge, 0.8, p) for p in pH])
+        assert_allclose(r["zeta"], ref[:, 0], rtol=1e-6)
+        assert_allclose(r["charge_density"], ref[:, 1], rtol=1e-6)
+        assert r["zeta"][0] > 0 > r["zeta"][2]
+
+
+def test_regulated_channel_limits():
+    e = ek.Electrolyte.salt("KCl", np.array([0.01, 1.0, 100.0]))
+    # wide slit: the isolated wall (measured: within 5e-8)
+    iso = Surface.silica().isolated(e, pH=7.0)
+    r = regulated_layer(0, 1e-3, e, Surface.silica(), 7.0)
+    assert_allclose(r["zeta"], iso.zeta, rtol=1e-6)
+    assert_allclose(r["charge_density"], iso.charge_density, rtol=1e-6)
+    # wide tube: the same up to the curvature of the wall, a relative change of
+    # order (Debye length)/radius (measured: 0.09 of it, at every accuracy)
+    r = regulated_layer(1, 1e-3, e, Surface.silica(), 7.0)
+    curv = e.debye_length / 1e-3
+    assert np.all(np.abs(r["zeta"] / iso.zeta - 1) < curv)
+    assert np.all(np.abs(r["charge_density"] / iso.charge_density - 1) < curv)
+    # fixed-charge sites (pK -10 at pH 9) in overlapping layers: the
+    # constant-charge Poisson-Boltzmann solution of the pb model, an
+    # independent solver (ekexplore.doublelayer)
+    gamma = 1e17
+    fixed = Surface(Site(-10.0, gamma), 2.9)
+    for m, shape in ((0, ek.Slit(20e-9)), (1, ek.Tube(20e-9))):
+        r = regulated_layer(m, 10e-9, e, fixed, 9.0)
+        pb = ek.solve(shape, e, ek.Wall(charge_density=-E * gamma), model="pb")
+        assert_allclose(r["charge_density"], -E * gamma, rtol=1e-9)
+        assert_allclose(r["zeta"], pb.wall_potential, rtol=1e-6)
+    # many fast sites and a large Stern capacitance: the Nernst potential of the
+    # point of zero charge, overlap or not (see test_constant_potential_limit)
+    nernst = KB * 298.15 / E * np.log(10) * (7.0 - 9.0)
+    r = regulated_layer(0, 5e-9, e, Surface.amphoteric(6.0, 8.0, 1e21, 1e3), 9.0)
+    assert_allclose(r["zeta"], nernst, rtol=1e-2)
+
+
+def test_overlap_lowers_the_charge_of_silica():
+    # Behrens & Grier (2001): an anionic surface close to silica lowers its
+    # charge by regulation once the separation falls to about a Debye length.
+    # Two silica walls of a narrowing slit: |sigma| falls and |zeta| rises.
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    lam = float(e.debye_length)
+    R = lam * np.logspace(-2, 2, 17)
+    r = regulated_layer(0, R, e, Surface.silica(), 7.0)
+    sig = -r["charge_density"]
+    # monotone, to within the solver's accuracy once the walls no longer
+    # interact (kappa a > 10, where sigma changes by less than 1e-7)
+    noise = 1e-7 * sig
+    assert np.all(np.diff(sig) > -noise[1:])
+    assert np.all(np.diff(r["zeta"]) > -noise[1:] * 10)
+    assert np.all(np.diff(sig)[:8] > 1e-3 * sig[1:9])
+    iso = float(Surface.silica().isolated(e, 7.0).charge_density)
+    assert sig[-1] == pytest.approx(-iso, rel=1e-5)    # kappa a = 100: isolated
+    assert sig[8] < 0.99 * -iso                         # kappa a = 1: lowered
+    assert sig[4] < 0.67 * -iso                         # kappa a = 0.1: by a third
+
+
+def test_regulated_batch_equals_single_points():
+    e = ek.Electrolyte.salt("KCl", np.array([0.01, 0.3, 30.0]))
+    R = np.array([[3e-9], [50e-9]])
+    pH = 6.3
+    batch = regulated_layer(1, R, e, Surface.silica(pK=[[7.0], [7.8]]), pH)
+    for i in range(2):
+        for j in range(3):
+            one = regulated_layer(1, R[i, 0], ek.Electrolyte.salt("KCl", e.concentrations[0, j]),
+                                  Surface.silica(pK=[7.0, 7.8][i]), pH)
+            assert batch["zeta"][i, j] == one["zeta"]
+            assert batch["charge_density"][i, j] == one["charge_density"]
+
+
+# ---------------------------------------------------------------------------
+# the regulated wall under each double-layer model
+# ---------------------------------------------------------------------------
+from scipy import special  # noqa: E402
+
+from ekexplore._regulated import regulated_wall  # noqa: E402
+
+
+def dh_silica_scalar(m, R, c_mM, pH, T=298.15, pK=7.5, gamma=8e18, C=2.9):
+    """Independent Debye-Hueckel regulated wall, 1:1 salt: the linear double
+    layer across a slit (cosh profile) or tube (Rice & Whitehead 1965, J. Phys.
+    Chem. 69, 4017, doi:10.1021/j100782a002: I0 profile) carries
+    sigma = eps kappa psi_d tanh(kappa R) or eps kappa psi_d I1(kappa R)/I0(kappa R);
+    it must balance Behrens & Grier's silanol sites at psi_0 = psi_d + sigma/C."""
+    VT = KB * T / E
+    eps = eps_water(T)
+    kappa = np.sqrt(2 * E**2 * c_mM * constants.N_A / (eps * KB * T))
+    K = kappa * R
+    g = np.tanh(K) if m == 0 else special.iv(1, K) / special.iv(0, K)
+
+    def mismatch(psi):
+        s = eps * kappa * psi * g
+        return s - silanol_charge((psi + s / C) / VT, pH, pK, gamma)
+
+    psi = brentq(mismatch, -2.0, 0.0, xtol=1e-300, rtol=1e-15, maxiter=500)
+    return psi, eps * kappa * psi * g
+
+
+@pytest.mark.parametrize("m", [0, 1])
+def test_regulated_wall_thin_and_dh_against_independent_solutions(m):
+    conc = np.array([0.01, 1.0, 100.0])
+    e = ek.Electrolyte.salt("KCl", conc)
+    R = np.array([[5e-9], [200e-9]])
+    pH = 6.5
+    thin = regulated_wall("thin", m, R, e, Surface.silica(), pH)
+    ref = np.array([bg_silica_scalar(c, pH) for c in conc])
+    assert_allclose(thin["zeta"], np.broadcast_to(ref[:, 0], (2, 3)), rtol=1e-9)
+    assert_allclose(thin["charge_density"], np.broadcast_to(ref[:, 1], (2, 3)), rtol=1e-9)
+    dh = regulated_wall("dh", m, R, e, Surface.silica(), pH)
+    for i in range(2):
+        for j, c in enumerate(conc):
+            zr, sr = dh_silica_scalar(m, R[i, 0], c, pH)
+            assert_allclose([dh["zeta"][i, j], dh["charge_density"][i, j]], [zr, sr],
+                            rtol=1e-9)
+
+
+def test_dh_regulated_wall_approaches_pb_at_small_potential():
+    # near the point of zero charge the potentials are small and the linear
+    # double layer is exact to second order: relative gap below phi_w^2
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    s = Surface.alumina(stern_capacitance=0.8)
+    pH = np.array([7.93, 7.98, 8.02, 8.07])
+    for m in (0, 1):
+        for R in (2e-9, 20e-9):
+            dh = regulated_wall("dh", m, R, e, s, pH)
+            pb = regulated_wall("pb", m, R, e, s, pH)
+            phi = np.abs(pb["zeta"]) / (KB * 298.15 / E)
+            assert np.all(phi < 0.2)
+            gap = np.abs(dh["charge_density"] / pb["charge_density"] - 1)
+            assert np.all(gap < 0.5 * phi**2)
+            # second order: gap / phi^2 the same at phi = 0.04 and 0.15
+            # (measured 0.04-0.16 depending on kappa a and the shape)
+            ratio = gap / phi**2
+            assert_allclose(ratio[1], ratio[0], rtol=0.05)
+
+
+@pytest.mark.parametrize("model", ["thin", "dh", "pb"])
+def test_regulated_zeta_reproduces_its_charge_in_the_fixed_potential_kernels(model):
+    # once zeta is known the channel's double layer is the constant-potential
+    # one at that zeta: the existing kernels, given that zeta, must find the
+    # same wall charge (for pb an independent solver: ekexplore.doublelayer)
+    e = ek.Electrolyte.salt("KCl", np.array([0.05, 2.0, 50.0]))
+    for m, shape in ((0, ek.Slit(2 * 15e-9)), (1, ek.Tube(2 * 15e-9))):
+        reg = regulated_wall(model, m, 15e-9, e, Surface.silica(), 7.5)
+        res = ek.solve(shape, e, ek.Wall(zeta=reg["zeta"]), model=model)
+        assert_allclose(res.wall_charge, reg["charge_density"], rtol=2e-6)
+
+
+# ---------------------------------------------------------------------------
+# the wall condition seen from the diffuse layer: sigma(zeta)
+# ---------------------------------------------------------------------------
+def test_wall_charge_closes_the_isolated_balance():
+    # at the isolated wall's zeta, the charge the sites carry behind the Stern
+    # layer is the Grahame charge of the diffuse layer
+    conc = np.logspace(-3, 3, 13)
+    e = ek.Electrolyte.salt("KCl", conc)
+    for s, pH in ((Surface.silica(), 7.3), (Surface.alumina(0.8), np.array([[5.0], [10.0]]))):
+        w = s.isolated(e, pH=pH)
+        assert_allclose(s.wall_charge(w.zeta, pH), w.charge_density, rtol=1e-10)
+    # Behrens & Grier closed form read the other way: sigma from psi_d, psi_0 = psi_d + sigma/C
+    ref = np.array([bg_silica_scalar(c, 7.3) for c in conc])
+    assert_allclose(Surface.silica().wall_charge(ref[:, 0], 7.3), ref[:, 1], rtol=1e-10)
+
+
+def test_wall_charge_derivative_and_antiderivative():
+    rng = np.random.default_rng(3)
+    zeta = rng.uniform(-0.3, 0.3, 60)
+    pH = rng.uniform(3, 11, 60)
+    h = 1e-6
+    VT = KB * 298.15 / E
+    x, wq = np.polynomial.legendre.leggauss(60)
+    for s in (Surface.silica(), Surface.alumina(0.2),
+              Surface([Site(4.0, 1e18), Site(9.0, 3e18, charge=1)], 5.0)):
+        num = (s.wall_charge(zeta + h, pH) - s.wall_charge(zeta - h, pH)) / (2 * h)
+        d = s.wall_charge_derivative(zeta, pH)
+        assert np.all(d <= 0)
+        # the Stern layer in series: |d sigma/d zeta| < C
+        assert np.all(-d < s.stern_capacitance)
+        assert_allclose(d, num, rtol=1e-5, atol=1e-8 * np.max(np.abs(num)))
+        phi = zeta / VT
+        nodes = 0.5 * (x[:, None] + 1) * phi
+        quad = 0.5 * phi * np.sum(wq[:, None] * s._diffuse_terms(nodes, pH, s.stern_capacitance
+                                                                 * VT)[0], axis=0)
+        c_s = s.stern_capacitance * VT
+        free = s._diffuse_terms(phi, pH, c_s)[2] - s._diffuse_terms(0 * phi, pH, c_s)[2]
+        assert_allclose(free, quad, rtol=1e-9, atol=1e-12)
+
+
+def test_wall_charge_without_stern_drop_is_the_site_charge():
+    # a very large Stern capacitance puts the charged plane at zeta
+    # (to first order the gap is the Stern drop sigma/C times the slope of
+    # the sites)
+    zeta = np.linspace(-0.2, 0.1, 7)
+    sites = Surface.silica().site_charge(zeta, 8.0)
+    sig = Surface.silica(stern_capacitance=1e3).wall_charge(zeta, 8.0)
+    first_order = np.abs(Surface.silica().site_charge_derivative(zeta, 8.0) * sites / 1e3)
+    assert np.max(np.abs(sig / sites - 1)) < 0.02
+    assert_allclose(np.abs(sig - sites), first_order, rtol=0.05)

@@ -8,14 +8,20 @@ import ipywidgets as w
 import numpy as np
 
 from . import compute
-from .common import (CSS, PALETTE, SetupControls, Status, ViewUpdates, Worker, bokeh_widget,
+from .common import (CSS, PALETTE, CodeExport, SetupControls, Status, ViewUpdates, Worker, bokeh_widget,
                      download_link, new_figure)
 from .state import State
+from . import units as U
 from .units import eng, length_unit, num, prefix_scale
 
 __all__ = ["ExplorerView"]
 
 TITLE = "ekexplore — coupling matrix explorer"
+
+
+def symbols(text):
+    """Escape ``text`` for HTML and render λ_D as a symbol with a subscript."""
+    return html.escape(text).replace("λ_D", "λ<sub>D</sub>")
 
 
 def matrix_html(ex, state):
@@ -31,28 +37,46 @@ def matrix_html(ex, state):
         f"<tr><td class='l'>mean current density ⟨j⟩</td><td>{eng(m[1, 0] * G1, 'A/m²')}</td>"
         f"<td>{eng(m[1, 1] * E1, 'A/m²')}</td></tr></table>")
     c = ex.conductances
-    lpm = 6e7    # m^3/s -> L/min
+    what = (f"one channel, {U.length(state.width)} wide, L = {U.length(state.length)}"
+            if state.shape == "Slit" else f"one channel, L = {U.length(state.length)}")
     whole = (
-        f"<table class='ekx-table'><tr><th class='l'>whole channel, L = "
-        f"{eng(state.length, 'm')}</th><th>per Δp = 1 kPa</th><th>per ΔV = 1 V</th></tr>"
+        f"<table class='ekx-table'><tr><th class='l'>{html.escape(what)}</th>"
+        "<th>per Δp = 1 kPa</th><th>per ΔV = 1 V</th></tr>"
         f"<tr><td class='l'>flow rate Q</td>"
-        f"<td>{eng(c['flow_per_pressure'] * 1e3 * lpm, 'L/min')}</td>"
-        f"<td>{eng(c['flow_per_volt'] * lpm, 'L/min')}</td></tr>"
-        f"<tr><td class='l'>current I</td><td>{eng(c['current_per_pressure'] * 1e3, 'A')}</td>"
-        f"<td>{eng(c['conductance'], 'A')}</td></tr></table>")
+        f"<td>{U.flow(c['flow_per_pressure'] * 1e3)}</td>"
+        f"<td>{U.flow(c['flow_per_volt'])}</td></tr>"
+        f"<tr><td class='l'>current I</td><td>{U.current(c['current_per_pressure'] * 1e3)}</td>"
+        f"<td>{U.current(c['conductance'])}</td></tr></table>")
     r = ex.result
-    err = compute.scalar(r.error_estimate)
-    slit_note = "; slit figures are per metre of width" if state.shape == "Slit" else ""
+    acc = ex.accuracy
+    if acc.how == "numerical estimate of pb":
+        err = f"numerical error estimate {acc.error:.2g}"
+    else:
+        err = f"error {acc.how}: {U.percent(acc.error, 2)}"
     foot = (f"<div class='ekx-small'>model: <b>{html.escape(ex.model)}</b> "
-            f"(asked: {html.escape(state.model)}), estimated error {err:.2g}; "
-            f"reciprocity residual |L12−L21|/L12 = {compute.scalar(r.reciprocity_residual):.2g}"
-            f"{slit_note}.</div>")
-    return f"<div style='display:flex;flex-wrap:wrap'>{area}{whole}</div>{foot}"
+            f"(asked: {html.escape(state.model)}), {html.escape(err)}; "
+            f"reciprocity residual |L12−L21|/L12 = {compute.scalar(r.reciprocity_residual):.2g}."
+            "</div>")
+    warn = ""
+    if acc.out_of_range:
+        warn += f"<div class='ekx-warn'>⚠ {html.escape(acc.out_of_range)}</div>"
+    if ex.problems:
+        warn += ("<div class='ekx-warn'>⚠ Impossible result, not shown: "
+                 f"{html.escape('; '.join(ex.problems))}. "
+                 + ("The forced model is outside its range: use pb or auto."
+                    if acc.forced else
+                    "This is a known fault of the model at this point; do not rely on the "
+                    "derived quantities.") + "</div>")
+    if state.narrow_slit:
+        warn += (f"<div class='ekx-warn'>⚠ The slit is {U.length(state.width)} wide, under "
+                 f"ten gaps ({U.length(10 * state.size)}): the slit model misses the side "
+                 "walls. Choose the Rectangle shape for this channel.</div>")
+    return f"{warn}<div style='display:flex;flex-wrap:wrap'>{area}{whole}</div>{foot}"
 
 
 def derived_html(rows):
-    body = "".join(f"<tr><td class='l'>{html.escape(n)}</td><td>{html.escape(v)}</td>"
-                   f"<td class='l'>{html.escape(m)}</td></tr>" for n, v, m in rows)
+    body = "".join(f"<tr><td class='l'>{symbols(n)}</td><td>{symbols(v)}</td>"
+                   f"<td class='l'>{symbols(m)}</td></tr>" for n, v, m in rows)
     return ("<table class='ekx-table'><tr><th class='l'>quantity</th><th>value</th>"
             f"<th class='l'>meaning</th></tr>{body}</table>")
 
@@ -66,19 +90,15 @@ class ExplorerView(ViewUpdates):
 
         self.state = state if state is not None else State()
         self.controls = SetupControls(self.state)
+        self.controls.rejections.append(self._rejected)
         self.status = Status()
         self.verdict = w.HTML()
         self.matrix = w.HTML()
         self.matrix.add_class("ekx-matrix")
         self.derived = w.HTML()
-        self.code = w.Textarea(layout=w.Layout(width="900px", height="190px"),
-                               disabled=False)
-        self.code_button = w.ToggleButton(description="Show code", icon="code",
-                                          tooltip="a Python cell that reproduces this "
-                                                  "computation through the public API")
-        self.code_box = w.VBox([self.code], layout=w.Layout(display="none"))
-        self.code_button.observe(self._toggle_code, "value")
-        self.downloads = w.HTML()
+        self.export = CodeExport()
+        self.code, self.code_button = self.export.code, self.export.button
+        self.code_box, self.downloads = self.export.box, self.export.downloads
         self.last = None          # last good compute.Explored
         self.error = None         # last error message, or None
         self._signature = None
@@ -121,8 +141,7 @@ class ExplorerView(ViewUpdates):
         self.tabs = w.Tab(children=[w.VBox([w.HBox([self.profile_view]), self.note,
                                             self.plots]), self.field_box,
                                     self.derived,
-                                    w.VBox([w.HBox([self.code_button, self.downloads]),
-                                            self.code_box])])
+                                    self.export.widget])
         for i, t in enumerate(["Profiles", "2D field", "Derived quantities", "Export"]):
             self.tabs.set_title(i, t)
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
@@ -192,9 +211,6 @@ class ExplorerView(ViewUpdates):
     # ---- wiring ----------------------------------------------------------------
     def _changed(self, change):
         self.update()
-
-    def _toggle_code(self, change):
-        self.code_box.layout.display = None if change["new"] else "none"
 
     NOTE_1D = ("<div class='ekx-small'>This shape is 1D (uniform along its width or "
                "around its axis): its fields across the section are on the Profiles tab.</div>")

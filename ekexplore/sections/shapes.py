@@ -520,9 +520,9 @@ class Polygon(_Section):
         self.vertices = V
         self._centre, self._radius = c, r
 
-    @property
-    def shape(self):
-        return ()
+    def _parameter_shapes(self):
+        # the vertex array is one polygon, not an array of parameter points
+        return {}
 
     def _values(self, shape):
         return [np.full(int(np.prod(shape)) if shape else 1, None, dtype=object)]
