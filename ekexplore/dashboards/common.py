@@ -498,29 +498,53 @@ def _log10(x):
 
 class Worker:
     """Runs a computation now (1D shapes) or on a thread (2D sections, slow),
-    and hands only the newest result to the view."""
+    and hands only the newest result to the view.
+
+    A computation may come in stages (``submit_stages``): the matrix first,
+    the fields after. Work for an input that a newer one has replaced is
+    dropped at the next stage boundary, and one computation runs at a time
+    (the machine's cores are not shared between stale and fresh work).
+    """
 
     def __init__(self):
         import threading
         self._lock = threading.Lock()
+        self._run_lock = threading.Lock()
         self.generation = 0
         self.thread = None
+        self.dropped = 0          # stages skipped because a newer input arrived
 
     def submit(self, fn, done, fail, background=False):
+        self.submit_stages([(lambda _: fn(), done)], fail, background)
+
+    def submit_stages(self, stages, fail, background=False):
+        """``stages``: [(compute(previous output) -> out, show(out)), ...]."""
         import threading
         with self._lock:
             self.generation += 1
             gen = self.generation
 
         def run():
-            try:
-                out = fn()
-            except Exception as exc:   # reported in the status area, never raised
-                if gen == self.generation:
-                    fail(exc)
-                return
-            if gen == self.generation:
-                done(out)
+            with self._run_lock:
+                out = None
+                for compute_fn, show in stages:
+                    if gen != self.generation:
+                        self.dropped += 1
+                        return
+                    try:
+                        out = compute_fn(out)
+                    except Exception as exc:   # reported in the status area, never raised
+                        if gen == self.generation:
+                            fail(exc)
+                        return
+                    if gen != self.generation:
+                        self.dropped += 1
+                        return
+                    try:
+                        show(out)
+                    except Exception as exc:   # never a traceback on the dashboard
+                        fail(exc)
+                        return
 
         if background:
             self.thread = threading.Thread(target=run, name="ekexplore-compute", daemon=True)
@@ -529,7 +553,7 @@ class Worker:
             run()
 
     def wait(self, timeout=300):
-        """Wait for a background computation (tests, scripts)."""
+        """Wait for the newest background computation (tests, scripts)."""
         t = self.thread
         if t is not None:
             t.join(timeout)

@@ -17,7 +17,8 @@ import ekexplore as ek
 from . import units as U
 from .units import eng, num
 
-__all__ = ["Explored", "explore", "verdict", "matrix_csv", "profiles_csv"]
+__all__ = ["Explored", "explore", "explore_matrix", "explore_fields", "verdict", "matrix_csv",
+           "profiles_csv", "field_images"]
 
 
 def scalar(x):
@@ -78,22 +79,131 @@ def curves(prof):
                   debye_length=scalar(prof.debye_length), wall=float(np.max(x)))
 
 
-def field_images(prof, n=140):
-    """Images of a 2D section's fields on a regular grid, and two cuts."""
+#: Rasterisations of recent meshes: digest -> (triangle per point, weights)
+_RASTERS: dict = {}
+
+
+def _raster(px, py, tris, ox, oy, dx, dy, nx, ny):
+    """Locate the points of a regular lattice (ox + i dx, oy + j dy), i < nx,
+    j < ny, in a triangle mesh: for each lattice point the index of a triangle
+    holding it (or -1) and its barycentric weights.
+
+    Every triangle is matched with the lattice points inside its bounding box
+    (a vectorised scan), so no point inside the mesh is missed.
+    """
+    T = np.asarray(tris)
+    X = (px[T] - ox) / dx          # (nt, 3) in lattice units
+    Y = (py[T] - oy) / dy
+    i0 = np.clip(np.ceil(X.min(1) - 1e-9), 0, nx).astype(np.int64)
+    i1 = np.clip(np.floor(X.max(1) + 1e-9), -1, nx - 1).astype(np.int64)
+    j0 = np.clip(np.ceil(Y.min(1) - 1e-9), 0, ny).astype(np.int64)
+    j1 = np.clip(np.floor(Y.max(1) + 1e-9), -1, ny - 1).astype(np.int64)
+    wi = np.maximum(i1 - i0 + 1, 0)
+    wj = np.maximum(j1 - j0 + 1, 0)
+    cnt = wi * wj
+    t = np.repeat(np.arange(len(T)), cnt)
+    start = np.repeat(np.cumsum(cnt) - cnt, cnt)
+    k = np.arange(int(cnt.sum())) - start
+    i = i0[t] + k % wi[t]
+    j = j0[t] + k // wi[t]
+    xa, ya = X[t, 0], Y[t, 0]
+    v0x, v0y = X[t, 1] - xa, Y[t, 1] - ya
+    v1x, v1y = X[t, 2] - xa, Y[t, 2] - ya
+    qx, qy = i - xa, j - ya
+    den = v0x * v1y - v0y * v1x
+    den = np.where(den == 0, np.inf, den)
+    l1 = (qx * v1y - qy * v1x) / den
+    l2 = (v0x * qy - v0y * qx) / den
+    l0 = 1.0 - l1 - l2
+    tol = 1e-9
+    ok = (l0 >= -tol) & (l1 >= -tol) & (l2 >= -tol)
+    flat = (j * nx + i)[ok]
+    tri = np.full(nx * ny, -1, dtype=np.int64)
+    lam = np.zeros((nx * ny, 3))
+    tri[flat] = t[ok]
+    lam[flat] = np.stack([l0[ok], l1[ok], l2[ok]], 1)
+    return tri, lam
+
+
+def _rasterise(prof, ox, oy, dx, dy, nx, ny):
+    """_raster for a profile's mesh, remembered for the last few meshes."""
+    import hashlib
+    h = hashlib.blake2b(digest_size=16)
+    for a in (prof.x, prof.y, np.asarray(prof.triangles), np.array([ox, oy, dx, dy, nx, ny])):
+        h.update(np.ascontiguousarray(a).tobytes())
+    key = h.hexdigest()
+    hit = _RASTERS.get(key)
+    if hit is None:
+        hit = _raster(np.asarray(prof.x, float), np.asarray(prof.y, float), prof.triangles,
+                      ox, oy, dx, dy, nx, ny)
+        _RASTERS[key] = hit
+        while len(_RASTERS) > 16:
+            _RASTERS.pop(next(iter(_RASTERS)))
+    return hit
+
+
+IMAGE_FIELDS = ("potential", "velocity_electroosmotic", "velocity_pressure", "charge_density")
+
+
+def field_images(prof, n=160):
+    """Images of a 2D section's fields, one value per pixel, and two cuts.
+
+    The image spans the section's bounding box exactly; pixels are square
+    (nx/ny follows the aspect ratio, at least 24 on the short side). Each
+    pixel takes the linear interpolation of the nodal fields at its centre;
+    a pixel whose centre falls just outside the meshed polygon but which
+    touches the section (a corner inside) takes its nearest node's value, so
+    the whole cross-section is filled; pixels wholly outside stay NaN
+    (transparent).
+    """
     if not hasattr(prof, "on_grid"):
         return None
-    W = float(np.ptp(prof.x))
-    H = float(np.ptp(prof.y))
-    nx = n if W >= H else max(24, int(round(n * W / H)))
-    ny = n if H > W else max(24, int(round(n * H / W)))
-    g = prof.on_grid(nx, ny)
+    from scipy.spatial import cKDTree
+    x, y = np.asarray(prof.x, float), np.asarray(prof.y, float)
+    x0, y0 = float(x.min()), float(y.min())
+    W, H = float(np.ptp(x)), float(np.ptp(y))
+    if W >= H:
+        nx, ny = n, max(24, int(round(n * H / W)))
+    else:
+        nx, ny = max(24, int(round(n * W / H))), n
+    dx, dy = W / nx, H / ny
+    T = np.asarray(prof.triangles)
+    # pixel centres, and pixel corners (an (nx+1) x (ny+1) lattice)
+    tri, lam = _rasterise(prof, x0 + dx / 2, y0 + dy / 2, dx, dy, nx, ny)
+    ctri, _ = _rasterise(prof, x0, y0, dx, dy, nx + 1, ny + 1)
+    inside = tri >= 0
+    cin = (ctri >= 0).reshape(ny + 1, nx + 1)
+    touching = (cin[:-1, :-1] | cin[1:, :-1] | cin[:-1, 1:] | cin[1:, 1:]).ravel() & ~inside
+    nodes = T[np.where(inside, tri, 0)]
+    imgs = {}
+    for k in IMAGE_FIELDS:
+        v = np.asarray(getattr(prof, k), float)
+        imgs[k] = np.where(inside, np.sum(v[nodes] * lam, axis=1), np.nan)
+    if np.any(touching):
+        xc = x0 + (np.arange(nx) + 0.5) * dx
+        yc = y0 + (np.arange(ny) + 0.5) * dy
+        Xc, Yc = np.meshgrid(xc, yc)
+        q = np.stack([Xc.ravel()[touching], Yc.ravel()[touching]], 1)
+        _, j = cKDTree(np.stack([x, y], 1)).query(q)
+        for k in IMAGE_FIELDS:
+            imgs[k][touching] = np.asarray(getattr(prof, k), float)[j]
+    # magnitude images for the log colour scale: the largest |value| of the
+    # mesh nodes inside each pixel (a double layer thinner than a pixel still
+    # shows at the wall), else the interpolated value
+    ix = np.clip(((x - x0) / dx).astype(np.int64), 0, nx - 1)
+    iy = np.clip(((y - y0) / dy).astype(np.int64), 0, ny - 1)
+    flat = iy * nx + ix
+    peaks = {}
+    for k in IMAGE_FIELDS:
+        pk = np.abs(imgs[k])
+        node_max = np.zeros(nx * ny)
+        np.maximum.at(node_max, flat, np.abs(np.asarray(getattr(prof, k), float)))
+        peaks[k] = np.where(np.isfinite(pk), np.maximum(pk, node_max), np.nan).reshape(ny, nx)
     normal = prof.wall_normal(n=50)
     centre = prof.centreline()
-    return dict(x0=float(g["x"][0]), y0=float(g["y"][0]), width=W, height=H,
-                potential=np.asarray(g["potential"], dtype=float),
-                velocity_electroosmotic=np.asarray(g["velocity_electroosmotic"], dtype=float),
-                velocity_pressure=np.asarray(g["velocity_pressure"], dtype=float),
-                charge_density=np.asarray(g["charge_density"], dtype=float),
+    return dict(x0=x0, y0=y0, width=W, height=H, nx=nx, ny=ny,
+                **{k: imgs[k].reshape(ny, nx) for k in IMAGE_FIELDS},
+                magnitude={k: peaks[k] for k in IMAGE_FIELDS},
                 normal=(np.asarray(normal["x"], dtype=float), np.asarray(normal["y"], dtype=float)),
                 centre=dict((k, np.asarray(v, dtype=float)) for k, v in centre.items()))
 
@@ -203,8 +313,10 @@ def impossible(r):
     return out
 
 
-def explore(state):
-    """Solve at the state's inputs; raises ValueError for bad inputs."""
+def explore_matrix(state):
+    """The coupling matrix and everything read from it (verdict, accuracy,
+    derived quantities): the fast first stage of an update. Raises ValueError
+    for bad inputs."""
     r = state.solve()
     model = text(r.model)
     if state.is_section:
@@ -214,17 +326,30 @@ def explore(state):
     thin = r if model == "thin" else state.solve("thin")
     G = state.pressure_drop / state.length
     E = state.voltage / state.length
-    prof = r.profiles(pressure_gradient=G, field=E)
     matrix = np.asarray(r.matrix, dtype=float).reshape(2, 2)
     cond = {k: scalar(v) for k, v in r.conductances(state.length).items()}
     acc = accuracy(r, ref, state)
     problems = impossible(r)
     return Explored(result=r, reference=ref if ref is not None else r, thin=thin,
-                    profiles=prof, pressure_gradient=G, field=E,
+                    profiles=None, pressure_gradient=G, field=E,
                     matrix=matrix, conductances=cond, model=model,
                     verdict=verdict(r, thin, state, ref, acc), accuracy=acc,
-                    problems=problems, derived=derived(r, state, problems),
-                    curves=curves(prof), images=field_images(prof))
+                    problems=problems, derived=derived(r, state, problems))
+
+
+def explore_fields(ex):
+    """The second stage: profiles across the section, their curves and, for a
+    2D section, the field images. Fills ``ex`` in place and returns it."""
+    prof = ex.result.profiles(pressure_gradient=ex.pressure_gradient, field=ex.field)
+    ex.profiles = prof
+    ex.curves = curves(prof)
+    ex.images = field_images(prof)
+    return ex
+
+
+def explore(state):
+    """Both stages at the state's inputs; raises ValueError for bad inputs."""
+    return explore_fields(explore_matrix(state))
 
 
 def eo_overestimate(r, thin):

@@ -180,7 +180,7 @@ class RegimesView(ViewUpdates):
         n = self.n
 
         def work():
-            ex = compute.explore(snap)
+            ex = compute.explore_matrix(snap)
             a = compute.map_size(snap, n) if need_a else None
             b = compute.map_kappa_zeta(snap, n) if need_b else None
             return snap, ex, a, b, key_a, key_b
