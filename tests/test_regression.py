@@ -60,7 +60,9 @@ def electrolyte(salt, c, T):
         ions, conc = (_CATION2, _DIANION), (2.0 * c, c)
     else:   # three ions: 1 part C+, 0.5 part B2+, 2 parts X-
         ions, conc = (_CATION2, _DICATION, _ANION), (c, 0.5 * c, 2.0 * c)
-    return ek.Electrolyte(ions, conc, temperature=T)
+    # mobility="ideal": the recorded numbers predate the concentration- and
+    # temperature-dependent mobilities; this option reproduces that model exactly.
+    return ek.Electrolyte(ions, conc, temperature=T, mobility="ideal")
 
 
 MODELS = ("thin", "dh", "pb", "auto")

@@ -157,8 +157,24 @@ def test_explorer_slider_changes_matrix_and_plot(server, browser, artifacts, cap
         stern.fill("-3")
         stern.press("Enter")
         p.page.wait_for_selector(".ekx-error")
-        assert "stern_conductance" in p.text(".ekx-status-box")
+        # the message names the control as labelled, in its unit, and the field
+        # goes back to the last good value (no silent clamping)
+        assert "Stern cond. -3 nS: enter a value from 0 to 1000 nS" in p.text(".ekx-status-box")
+        assert "up to date" not in p.text(".ekx-status-box")
+        p.page.wait_for_function(
+            "() => [...document.querySelectorAll('.widget-text')].some(b => "
+            "b.innerText.includes('Stern') && b.querySelector('input').value === '0')")
         p.page.screenshot(path=str(artifacts / "explorer-bad-input.png"))
+        _assert_clean(p)
+        # a typed concentration of 0 mM is refused with the screen's words
+        readout = p.slider("salt conc.").locator(".widget-readout")
+        good = readout.inner_text().strip()
+        readout.fill("0")
+        readout.press("Enter")
+        p.page.wait_for_function(
+            "() => document.querySelector('.ekx-status').textContent.includes('salt conc. 0 mM')")
+        p.page.wait_for_timeout(500)
+        assert readout.inner_text().strip() == good
         _assert_clean(p)
     finally:
         p.close()
