@@ -320,3 +320,20 @@ def test_random_recipes_over_the_documented_range(names, amounts, T, air):
     k = float(e.conductivity())
     assert np.isfinite(k) and k > 0
     assert np.isfinite(float(e.debye_length)) and float(e.debye_length) > 0
+
+
+def test_buffers_through_sweep():
+    # A buffer works through sweep (pH a swept parameter): each row equals the
+    # single solve of the same buffer.
+    pytest.importorskip("pandas")
+    df = ek.sweep(grid={"pH": [6.8, 7.4, 8.0], "concentration": [5.0, 50.0]}, shape="Slit",
+                  salt="HEPES", gap=200e-9, zeta=-0.04, model="pb")
+    assert len(df) == 6 and not df.attrs.get("failed")
+    for _, row in df.iterrows():
+        e = Electrolyte.buffer("HEPES", row["concentration"], pH=row["pH"])
+        r = ek.solve(ek.Slit(gap=200e-9), e, ek.Wall(zeta=-0.04), model="pb")
+        assert_allclose(row["conductive"], r.conductive, rtol=1e-9)
+        assert_allclose(row["bulk_conductivity"], e.conductivity(), rtol=1e-9)
+    with pytest.raises(ValueError, match="pH"):
+        ek.sweep(grid={"concentration": [5.0]}, salt="HEPES", gap=200e-9, zeta=-0.04,
+                 on_error="raise")
