@@ -467,7 +467,8 @@ def b3_page(browser, url, shape, presses, load_timeout=240_000):
                 data.append((t_data - ev["down"]) / 1e3)
             page.wait_for_function(up_to_date)
         readout = page.locator(".widget-slider", has=page.locator(
-            ".widget-label", has_text="salt conc.")).locator(".widget-readout").inner_text()
+            ".widget-label", has_text="salt conc.")).locator(
+            "xpath=following-sibling::*[1]//input").input_value()
         return dict(shape=shape, load=t_load, in_page=in_page, outside=outside, data=data,
                     readout=readout.strip())
     finally:

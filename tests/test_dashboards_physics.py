@@ -331,3 +331,12 @@ def test_uncharged_wall_works_on_every_page(view, wall):
     v = view(State(**wall), **kw)
     assert v.status.kind == "ok", v.status.message
     assert "division" not in v.status.message
+
+
+@pytest.mark.parametrize("view", [RegimesView, DeviceView])
+def test_forced_thin_out_of_range_is_said_on_the_other_pages(view):
+    kw = dict(n=6) if view is RegimesView else {}
+    v = view(State(model="thin", concentration=0.01, size=1e-7), **kw)
+    text = plain(v.readout.value)
+    assert "outside its range" in text and "error against pb" in text
+    assert not re.search(r"(\d{3,}|[2-9]\d\d?)(\.\d+)? %", text.split("maximum efficiency")[-1][:40])

@@ -225,6 +225,12 @@ class _Honest:
         else:
             rng = f"a value from {lo:g} to {hi:g} {self._h_unit}"
         self._h_reject(f"{self._h_name} {shown} {self._h_unit}: enter {rng}")
+        # the kernel keeps the old value, so no change is synced by itself: send it,
+        # so the box the user typed in shows the value in use again
+        try:
+            self.send_state("value")
+        except Exception:   # noqa: BLE001 - no front-end (tests, scripts)
+            pass
         return old
 
 

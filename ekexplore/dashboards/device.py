@@ -46,6 +46,8 @@ def readout_html(d, state):
     if state.shape == "Slit":
         what += f" and {U.length(state.width)} wide"
     warn = ""
+    if d.accuracy is not None and d.accuracy.out_of_range:
+        warn += f"<div class='ekx-warn'>⚠ {html.escape(d.accuracy.out_of_range)}</div>"
     if d.problems:
         warn += ("<div class='ekx-warn'>⚠ Impossible result with the "
                  f"{html.escape(compute.text(d.result.model))} model here: "

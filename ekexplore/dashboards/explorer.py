@@ -420,8 +420,12 @@ class ExplorerView(ViewUpdates):
                 m = self.field_mappers[key]
                 if finite.size:
                     lo, hi = float(np.min(finite) * fac), float(np.max(finite) * fac)
-                    if lo == hi:
-                        lo, hi = lo - 1e-12 - abs(lo) * 1e-6, hi + 1e-12 + abs(hi) * 1e-6
+                    if hi - lo <= 1e-3 * max(abs(lo), abs(hi)):
+                        # a uniform field (e.g. the slip model's plug flow): one colour,
+                        # not round-off speckle; the scale runs from zero
+                        lo, hi = min(lo, 0.0), max(hi, 0.0)
+                        if lo == hi:
+                            lo, hi = -1.0, 1.0
                     m.low, m.high = lo, hi
                 shown = a * fac
                 self.field_bars[key].title = f"[{pre}{base}]" if factor is None else f"[{base}]"
