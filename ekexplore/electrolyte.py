@@ -278,9 +278,11 @@ class Electrolyte:
         cs = [check_nonnegative(f"concentration of {ion.name}", c, unit="mol/m^3")
               for ion, c in zip(ions, concentrations)]
         T = check_temperature(temperature)
+        pH_arr = None if pH is None else check_range("pH", pH, -1.0, 15.0)
         shape = broadcast_named({"temperature": T.shape,
                                  **{f"concentration of {i.name}": c.shape
-                                    for i, c in zip(ions, cs)}})
+                                    for i, c in zip(ions, cs)},
+                                 **({} if pH_arr is None else {"pH": pH_arr.shape})})
         self._ions = ions
         self._c = np.stack([np.broadcast_to(c, shape) for c in cs]).astype(float)
         self._c.setflags(write=False)
@@ -297,8 +299,7 @@ class Electrolyte:
             net = float(np.sum(z * self._c, axis=0).ravel()[k])
             raise ValueError(f"concentrations: the mixture is not electroneutral, net charge "
                              f"sum(z*c) = {net:g} mol/m^3 (allowed: 0 within 1e-9 relative)")
-        self._pH = None if pH is None else np.broadcast_to(
-            check_range("pH", pH, -1.0, 15.0), shape)
+        self._pH = None if pH_arr is None else np.broadcast_to(pH_arr, shape)
 
     # -- construction helpers -------------------------------------------------
     @classmethod
@@ -367,6 +368,46 @@ class Electrolyte:
         ions = (Ion(f"cation{valence}+", int(valence), diffusivity_cation),
                 Ion(f"anion{valence}-", -int(valence), diffusivity_anion))
         return cls(ions, [c, c], temperature, mobility=mobility)
+
+    @classmethod
+    def named(cls, name, concentration, temperature=T_REF, pH=None, co2=None,
+              mobility="msa"):
+        """A salt preset or a buffer by name: one entry point for sweeps and
+        screens.
+
+        Parameters
+        ----------
+        name : str
+            A key of :data:`SALTS` (then ``concentration`` is the salt's and
+            ``pH``, optional, is only recorded) or of
+            :data:`ekexplore.chemistry.BUFFERS` (then ``concentration`` is the
+            buffer's total and ``pH`` the target, required).
+        concentration : array_like
+            [mol/m³].
+        temperature : array_like, optional
+            [K].
+        pH : array_like, optional
+            See ``name``.
+        co2 : optional
+            For buffers, as in :meth:`mix`.
+        mobility : str
+            As in :class:`Electrolyte`.
+
+        Examples
+        --------
+        >>> f"{float(Electrolyte.named('HEPES', 10.0, pH=7.4).pH):.2f}"
+        '7.40'
+        """
+        if isinstance(name, str) and name in chemistry.BUFFERS:
+            if pH is None:
+                raise ValueError(f"pH: a {name} buffer needs its target pH (useful range "
+                                 "pK +- 1)")
+            return cls.buffer(name, concentration, pH=pH, temperature=temperature, co2=co2,
+                              mobility=mobility)
+        if isinstance(name, str) and name in SALTS:
+            return cls.salt(name, concentration, temperature=temperature, mobility=mobility,
+                            pH=pH)
+        check_choice("electrolyte name", name, tuple(SALTS) + tuple(chemistry.BUFFERS))
 
     # -- properties --------------------------------------------------------------
     @property

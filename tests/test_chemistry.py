@@ -2,6 +2,8 @@
 Electrolyte.mix / Electrolyte.buffer)."""
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy import constants
 
@@ -291,3 +293,47 @@ def test_bad_input(call, words):
         call()
     for w in words:
         assert w in str(err.value), (w, str(err.value))
+
+
+@settings(max_examples=30, deadline=None)
+@given(names=st.lists(st.sampled_from(sorted(ek.chemistry.SUBSTANCES)), min_size=0,
+                      max_size=4, unique=True),
+       amounts=st.lists(st.floats(min_value=0.0, max_value=1000.0), min_size=4, max_size=4),
+       T=st.floats(min_value=273.15, max_value=350.0),
+       air=st.booleans())
+def test_random_recipes_over_the_documented_range(names, amounts, T, air):
+    # Property: any recipe of known substances (0-1000 mM each, 0-77 degC, in air
+    # or not) gives an electroneutral solution with a pH in [-1, 15], every
+    # concentration >= 0, and a positive finite conductivity and Debye length;
+    # or a ValueError that says the charge balance has no solution.
+    recipe = dict(zip(names, amounts))
+    try:
+        e = Electrolyte.mix(recipe, temperature=T, co2="air" if air else None)
+    except ValueError as err:
+        assert "charge balance" in str(err)
+        return
+    assert -1.0 <= float(e.pH) <= 15.0
+    assert all(np.all(v >= 0) for v in e.species.values())
+    z = e.valences[:, None]
+    c = e.concentrations.reshape(len(z), -1)
+    assert np.all(np.abs(np.sum(z * c, axis=0)) <= 1e-9 * np.sum(np.abs(z) * c, axis=0))
+    k = float(e.conductivity())
+    assert np.isfinite(k) and k > 0
+    assert np.isfinite(float(e.debye_length)) and float(e.debye_length) > 0
+
+
+def test_buffers_through_sweep():
+    # A buffer works through sweep (pH a swept parameter): each row equals the
+    # single solve of the same buffer.
+    pytest.importorskip("pandas")
+    df = ek.sweep(grid={"pH": [6.8, 7.4, 8.0], "concentration": [5.0, 50.0]}, shape="Slit",
+                  salt="HEPES", gap=200e-9, zeta=-0.04, model="pb")
+    assert len(df) == 6 and not df.attrs.get("failed")
+    for _, row in df.iterrows():
+        e = Electrolyte.buffer("HEPES", row["concentration"], pH=row["pH"])
+        r = ek.solve(ek.Slit(gap=200e-9), e, ek.Wall(zeta=-0.04), model="pb")
+        assert_allclose(row["conductive"], r.conductive, rtol=1e-9)
+        assert_allclose(row["bulk_conductivity"], e.conductivity(), rtol=1e-9)
+    with pytest.raises(ValueError, match="pH"):
+        ek.sweep(grid={"concentration": [5.0]}, salt="HEPES", gap=200e-9, zeta=-0.04,
+                 on_error="raise")
