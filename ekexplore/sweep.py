@@ -25,6 +25,7 @@ import numpy as np
 
 from ._validate import as_float_array, check_choice, check_integer, check_scalar
 from .channels import SHAPES
+from .chemistry import BUFFERS
 from .electrolyte import SALTS, Electrolyte
 from .models import MODEL_CHOICES
 from .transport import solve
@@ -32,7 +33,7 @@ from .wall import Wall
 
 __all__ = ["sweep", "design_table", "read_sweep", "SweepError", "SweepWarning"]
 
-_ELECTROLYTE_KEYS = ("concentration", "temperature")
+_ELECTROLYTE_KEYS = ("concentration", "temperature", "pH")
 _WALL_KEYS = ("zeta", "charge_density", "stern_conductance")
 _RESULT_KEYS = ("hydraulic", "electroosmotic", "streaming", "conductive",
                 "reciprocity_residual", "streaming_potential_coefficient",
@@ -127,9 +128,9 @@ def _solve_rows(shape_name, salt, model, tol, length, cols):
     n = len(cols["concentration"])
     if cls.kind == "section":  # one 2D solve per design
         results = [solve(cls(**{k: v[i] for k, v in shape_args.items()}),
-                         Electrolyte.salt(salt, cols["concentration"][i],
-                                          **({"temperature": cols["temperature"][i]}
-                                             if "temperature" in cols else {})),
+                         Electrolyte.named(salt, cols["concentration"][i],
+                                           **{k: cols[k][i] for k in ("temperature", "pH")
+                                              if k in cols}),
                          Wall(**{k: v[i] for k, v in w_kw.items()}), model=model, tol=tol)
                    for i in range(n)]
         out = {k: np.array([np.asarray(getattr(r, k)).item() for r in results])
@@ -139,8 +140,8 @@ def _solve_rows(shape_name, salt, model, tol, length, cols):
                 out[k] = np.array([float(r.conductances(length)[k]) for r in results])
         return out
     channel = cls(**shape_args)
-    e_kw = {"temperature": cols["temperature"]} if "temperature" in cols else {}
-    electrolyte = Electrolyte.salt(salt, cols["concentration"], **e_kw)
+    e_kw = {k: cols[k] for k in ("temperature", "pH") if k in cols}
+    electrolyte = Electrolyte.named(salt, cols["concentration"], **e_kw)
     r = solve(channel, electrolyte, Wall(**w_kw), model=model, tol=tol)
     out = {k: np.broadcast_to(getattr(r, k), (n,)).copy() for k in _RESULT_KEYS}
     if length is not None:
@@ -341,13 +342,17 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
     grid, table, **fixed
         The designs, see :func:`design_table`. Names are the shape's
         parameters (e.g. ``gap``, ``diameter``, ``width``, ``depth``),
-        ``concentration`` [mol/m³] (required), ``temperature`` [K], ``zeta``
+        ``concentration`` [mol/m³] (required), ``temperature`` [K], ``pH``, ``zeta``
         [V] or ``charge_density`` [C/m²] (one is required) and
         ``stern_conductance`` [S].
     shape : str
         A name in :data:`ekexplore.SHAPES`.
     salt : str
-        A preset in :data:`ekexplore.SALTS`.
+        A preset in :data:`ekexplore.SALTS`, or a buffer of
+        :data:`ekexplore.chemistry.BUFFERS`: then ``concentration`` is the
+        buffer's and ``pH`` (required) its target pH (see
+        :meth:`ekexplore.Electrolyte.named`). ``pH`` may also be given with a
+        salt; it is then only recorded (for pH-dependent walls).
     model, tol
         As in :func:`ekexplore.solve`.
     length : float, optional
@@ -430,7 +435,7 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
     import pandas as pd
 
     check_choice("shape", shape, tuple(SHAPES))
-    check_choice("salt", salt, tuple(SALTS))
+    check_choice("salt", salt, tuple(SALTS) + tuple(BUFFERS))
     check_choice("model", model, MODEL_CHOICES)
     check_choice("on_error", on_error, ("record", "raise"))
     tol = check_scalar("tol", tol, 1e-6, 1.0)
