@@ -19,7 +19,7 @@ import numpy as np
 from scipy import special
 
 from .coefficients import coefficients, dh_means, neutrality_charge, thin_means
-from .doublelayer import (PB_PHI_MAX, gouy_chapman_length, gouy_chapman_potential, make_grid,
+from .doublelayer import (CHARGE_NEWTON_TOL, PB_PHI_MAX, gouy_chapman_length, gouy_chapman_potential, make_grid,
                           solve_pb, wall_potential_estimate)
 from .models import MODEL_NAMES
 from .profiles import Profiles
@@ -228,11 +228,12 @@ def _rich(c, f):
 
 
 def _pb_group(b, m, x0, n):
+    tol = 1e-6 if b.wall.dirichlet else CHARGE_NEWTON_TOL
     coarse = make_grid(m, x0, n)
-    phi_c = solve_pb(coarse, b.K, b.z, b.weights, b.wall, b.scaled_value)
+    phi_c = solve_pb(coarse, b.K, b.z, b.weights, b.wall, b.scaled_value, tol=tol)
     fine = make_grid(m, x0, 2 * n)
     phi_f = solve_pb(fine, b.K, b.z, b.weights, b.wall, b.scaled_value,
-                     phi0=_refine_guess(phi_c, fine.x.shape))
+                     phi0=_refine_guess(phi_c, fine.x.shape), tol=tol)
     sc, sf = _pb_scaled(b, coarse, phi_c), _pb_scaled(b, fine, phi_f)
     means = {k: _rich(sc[k], sf[k]) for k in sc}
     phi_w = _rich(phi_c[:, 0], phi_f[:, 0])

@@ -98,6 +98,8 @@ def _models(channel, cond, model, tol):
     """The model of every point (the ``auto`` choice where asked) and the
     a-priori error estimates of the closed-form models (every model: a thin
     or dh result always carries its estimate)."""
+    if model == "pb":
+        return np.full(cond.shape, model), None
     half = np.broadcast_to(channel.half_size, cond.shape)
     factor = np.broadcast_to(channel.perimeter * channel.half_size / channel.area, cond.shape)
     b = cond.flat(half)

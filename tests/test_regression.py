@@ -121,6 +121,25 @@ def _forced_estimates(new, old, result, old_error):
         assert np.all(new >= old)
 
 
+def _charge_newton(label):
+    parts = label.split("|")
+    return (not _is_section(label) and parts[2].startswith("charge_density")
+            and parts[3] in ("pb", "auto"))
+
+
+def _charge_newton_values(new, old, result, old_error):
+    # 1D pb at constant-charge walls: Newton now stops at 1e-10 instead of 1e-6
+    # (the old stop left errors that showed as reciprocity residuals up to 1e-6 at
+    # strongly charged walls); here that moves values by up to 2e-12 relative
+    np.testing.assert_allclose(new, old, rtol=1e-11, atol=0.0)
+
+
+def _charge_newton_error(new, old, result, old_error):
+    # and the error estimates (differences of two grids, about 1e-4 here) by up
+    # to 1.2e-12 absolute
+    np.testing.assert_allclose(new, old, rtol=RTOL, atol=1e-11)
+
+
 #: Changes of the recorded numbers that are intended: (field, predicate on the
 #: case label) -> the check that replaces plain agreement, with its reason.
 EXPLAINED: dict = {
@@ -128,6 +147,9 @@ EXPLAINED: dict = {
     ("L22_convection", _is_section): _sections_convection,
     ("error_estimate", _forced_closed_form): _forced_estimates,
 }
+EXPLAINED[("error_estimate", _charge_newton)] = _charge_newton_error
+for _field in ("matrix", "L22_migration", "L22_convection", "ion_current", "wall_potential"):
+    EXPLAINED[(_field, _charge_newton)] = _charge_newton_values
 EXPLAINED[("error_estimate", lambda label: _is_section(label)
             and not _forced_closed_form(label))] = _sections_error
 for _field in ("matrix", "L22_migration", "wall_potential", "wall_charge"):
