@@ -30,6 +30,8 @@ from __future__ import annotations
 import numpy as np
 from scipy import special
 
+from ._validate import as_float_array, broadcast_named, check_positive, check_scalar
+
 __all__ = ["estimated_model_errors", "choose_models", "ERROR_METHOD", "MODEL_RANGES",
            "regime_verdict"]
 
@@ -109,7 +111,9 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     (True, True)
     """
     m = {"slit": 0, "tube": 1, "section": 2}.get(geometry, geometry)
-    K = np.asarray(kappa_half_size, dtype=float)
+    K = check_positive("kappa_half_size", kappa_half_size)
+    phi_wall = as_float_array("phi_wall", phi_wall)
+    broadcast_named({"kappa_half_size": K.shape, "phi_wall": phi_wall.shape})
     G = _mean_factor(m, K)
     thin = _SAFETY_THIN * G / np.maximum(1.0 - G, 1e-12)
     Phi = np.max(np.abs(valences)) * np.abs(np.asarray(phi_wall, dtype=float))
@@ -164,6 +168,10 @@ def regime_verdict(kappa_size, slip_ratio, dukhin, counterion_share):
     >>> regime_verdict(0.8, 3.2, 5.0, 0.9)
     'double layers overlap: kappa*a = 0.8; the slip model overestimates electro-osmotic flow by 3.2x; surface conduction dominates (Du = 5); perm-selective: counter-ions carry 90% of the current'
     """
+    kappa_size = check_scalar("kappa_size", kappa_size, 0.0, None)
+    slip_ratio = check_scalar("slip_ratio", slip_ratio)
+    dukhin = check_scalar("dukhin", dukhin)
+    counterion_share = check_scalar("counterion_share", counterion_share)
     parts = []
     if kappa_size < 1:
         parts.append(f"double layers overlap: kappa*a = {kappa_size:.2g}")

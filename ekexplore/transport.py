@@ -307,8 +307,8 @@ class Result:
 
     def profiles(self, pressure_gradient=1.0, field=1.0):
         """Profiles across the section for -dp/dx [Pa/m] and E [V/m]; see ``Profiles``."""
-        G = float(check_range("pressure_gradient", pressure_gradient, -1e15, 1e15, unit="Pa/m"))
-        E = float(check_range("field", field, -1e9, 1e9, unit="V/m"))
+        G = check_scalar("pressure_gradient", pressure_gradient, -1e15, 1e15, unit="Pa/m")
+        E = check_scalar("field", field, -1e9, 1e9, unit="V/m")
         return self._out["profiles"](G, E)
 
     def as_dict(self):

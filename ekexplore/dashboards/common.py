@@ -111,7 +111,7 @@ def download_link(filename, text_data, label):
 _COPY_JS = ("var b=this,t=b.closest('.ekx-code-box').querySelector('textarea');"
             "t.select();var ok=false;try{ok=document.execCommand('copy')}catch(e){}"
             "var say=function(x){b.textContent=x;setTimeout(function(){"
-            "b.textContent='⧉ Copy code'},2500)};"
+            "b.textContent='Copy code'},2500)};"
             "if(navigator.clipboard&&window.isSecureContext){navigator.clipboard.writeText("
             "t.value).then(function(){say('✓ copied')},function(){"
             "say(ok?'✓ copied':'select the text and press Ctrl+C')})}"
@@ -129,7 +129,7 @@ class CodeExport:
                                      tooltip="a Python cell that reproduces this computation "
                                              "through the public API")
         self.copy = w.HTML("<button class='ekx-copy' title='copy the cell to the clipboard' "
-                           f"onclick=\"{_COPY_JS}\">⧉ Copy code</button>")
+                           f"onclick=\"{_COPY_JS}\">Copy code</button>")
         self.box = w.VBox([self.copy, self.code], layout=w.Layout(display="none"))
         self.box.add_class("ekx-code-box")
         self.downloads = w.HTML()
@@ -354,7 +354,9 @@ class SetupControls:
         self.stern = honest(HonestFloatText(description="Stern cond. [nS]", **_text()),
                             "stern", "Stern cond.", "nS")
         # channel
-        self.shape = w.Dropdown(options=listed_shapes(), description="shape", **_text())
+        self.shape = w.Dropdown(options=listed_shapes(), description="shape",
+                                style={"description_width": "150px"},
+                                layout=w.Layout(width="300px"))
         lo, hi = SIZE_RANGE
         self.size = honest(HonestFloatLogSlider(base=10, min=_log10(lo * 1e6),
                                                 max=_log10(hi * 1e6), step=0.02,
