@@ -132,8 +132,8 @@ class DeviceView(ViewUpdates):
         self.plots = w.HBox([bokeh_widget(fp), bokeh_widget(column(fg, fe))],
                             layout=w.Layout(flex_flow="row wrap"))
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
-                        "<span class='ekx-sub'>&nbsp; flow, current and power of one channel; "
-                        "pump and generator curves</span>")
+                        "<span class='ekx-sub'>&nbsp; flow, current and power of identical channels "
+                        "in parallel; pump and generator curves</span>")
         right = w.VBox([self.status.widget, self.caution, self.readout, self.plots,
                         self.export.widget],
                        layout=w.Layout(flex="1 1 auto", max_width="920px", min_width="0",

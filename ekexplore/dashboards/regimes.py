@@ -298,10 +298,10 @@ class RegimesView(ViewUpdates):
             f", Debye length λ<sub>D</sub> {html.escape(U.length(compute.scalar(r.debye_length)))}"
             ".<br>"
             f"<span style='color:#1b2a38'>{html.escape(ex.verdict)}</span><br>"
-            + (f"<span class='ekx-warn'>⚠ {html.escape(ex.accuracy.out_of_range)}</span><br>"
+            + (f"<div class='ekx-warn'>⚠ {html.escape(ex.accuracy.out_of_range)}</div>"
                if ex.accuracy is not None and ex.accuracy.out_of_range else "")
-            + (f"<span class='ekx-warn'>⚠ Impossible result of the {html.escape(ex.model)} "
-               f"model here: {html.escape('; '.join(ex.problems))}.</span><br>"
+            + (f"<div class='ekx-warn'>⚠ Impossible result of the {html.escape(ex.model)} "
+               f"model here: {html.escape('; '.join(ex.problems))}.</div>"
                if ex.problems else "") +
             f"Maps: one batched solve per model (pb reference, thin, dh) on "
             f"{a['n_valid']} of {a['n_cells']} cells (left) and {b['n_valid']} of "
