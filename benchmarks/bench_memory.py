@@ -97,7 +97,8 @@ def memory(points):
                 print(f"{model:5s} {n:9.0e}  over one hour")
                 continue
             if res.returncode != 0:
-                print(f"{model:5s} {n:9.0e}  failed: {res.stderr.strip().splitlines()[-1][:100]}")
+                last = (res.stderr.strip().splitlines() or [f"exit code {res.returncode}"])[-1]
+                print(f"{model:5s} {n:9.0e}  failed: {last[:100]}")
                 continue
             row = json.loads(res.stdout.strip().splitlines()[-1])
             rows.append(row)
