@@ -7,6 +7,7 @@ compare them with ``ekexplore.solve`` directly.
 from __future__ import annotations
 
 import io
+import warnings as _warnings
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -332,6 +333,36 @@ def impossible(r):
     return out
 
 
+def _quiet_solve(state, model, **kw):
+    """A comparison solve (a model on purpose outside its range, for the
+    maps and the verdict): its range warnings are what the screen shows."""
+    with _warnings.catch_warnings():
+        for w in (ek.transport.ModelRangeWarning, ek.transport.ImpossibleResultWarning,
+                  ek.transport.CrowdingWarning):
+            _warnings.simplefilter("ignore", w)
+        return state.solve(model, **kw)
+
+
+def _comparison_eo(state, model, kw):
+    """Electro-osmotic coefficient of ``model`` at the map's points; NaN (grey)
+    where solve refuses a point (a charge whose linear dh wall potential leaves
+    the range of every model)."""
+    try:
+        return np.asarray(_quiet_solve(state, model, **kw).electroosmotic, dtype=float)
+    except ValueError:
+        pass
+    n = np.size(next(iter(kw.values())))
+    out = np.full(n, np.nan)
+    for k in range(n):
+        one = {key: np.asarray(v).reshape(-1)[k] if np.size(v) == n else v
+               for key, v in kw.items()}
+        try:
+            out[k] = float(_quiet_solve(state, model, **one).electroosmotic)
+        except ValueError:
+            continue
+    return out
+
+
 def explore_matrix(state):
     """The coupling matrix and everything read from it (verdict, accuracy,
     derived quantities): the fast first stage of an update. Raises ValueError
@@ -342,7 +373,7 @@ def explore_matrix(state):
         ref = None          # a 2D pb solve per update would be slow: estimates instead
     else:
         ref = r if model == "pb" else state.solve("pb")
-    thin = r if model == "thin" else state.solve("thin")
+    thin = r if model == "thin" else _quiet_solve(state, "thin")
     G = state.pressure_drop / state.length
     E = state.voltage / state.length
     matrix = np.asarray(r.matrix, dtype=float).reshape(2, 2)
@@ -563,14 +594,14 @@ def _layers(state, concentration, size, zeta=None):
     if zeta is not None:
         kw["zeta"] = zeta
     pb = state.solve("pb", **kw)
-    thin = state.solve("thin", **kw)
-    dh = state.solve("dh", **kw)
+    thin = _comparison_eo(state, "thin", kw)
+    dh = _comparison_eo(state, "dh", kw)
     ref = np.asarray(pb.electroosmotic, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):   # an uncharged wall: NaN, grey
         layers = {
-            "eo_fraction": ref / np.asarray(thin.electroosmotic, dtype=float),
-            "thin_error": np.abs(np.asarray(thin.electroosmotic) - ref) / np.abs(ref),
-            "dh_error": np.abs(np.asarray(dh.electroosmotic) - ref) / np.abs(ref),
+            "eo_fraction": ref / thin,
+            "thin_error": np.abs(thin - ref) / np.abs(ref),
+            "dh_error": np.abs(dh - ref) / np.abs(ref),
         }
     return {
         **layers,
