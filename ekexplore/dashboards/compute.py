@@ -593,7 +593,7 @@ def _layers(state, concentration, size, zeta=None):
     kw = dict(concentration=concentration, size=size * factor)
     if zeta is not None:
         kw["zeta"] = zeta
-    pb = state.solve("pb", **kw)
+    pb = _quiet_solve(state, "pb", **kw)
     thin = _comparison_eo(state, "thin", kw)
     dh = _comparison_eo(state, "dh", kw)
     ref = np.asarray(pb.electroosmotic, dtype=float)
