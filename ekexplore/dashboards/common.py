@@ -217,6 +217,27 @@ class _Honest:
                 self.max = v
         return v
 
+    def _acceptable(self, v):
+        lo, hi, lo_open = self._h_limits
+        try:
+            v = float(v)
+        except (TypeError, ValueError):
+            return False
+        return bool(np.isfinite(v)) and (v > lo if lo_open else v >= lo) and v <= hi
+
+    def set_state(self, sync_data):
+        """A value typed in the page: refused here, before traitlets sets it
+        (inside ipywidgets' hold the validator would only see it afterwards).
+        The page's echo then carries the value in use, so the box shows it."""
+        if "value" in sync_data and not self._acceptable(sync_data["value"]):
+            typed = sync_data["value"]
+            sync_data = dict(sync_data, value=self.value)
+            super().set_state(sync_data)
+            self._refuse(typed if not isinstance(typed, (int, float)) else float(typed),
+                         self.value)
+            return
+        super().set_state(sync_data)
+
     def _refuse(self, v, old):
         lo, hi, lo_open = self._h_limits
         shown = f"{v:.4g}" if isinstance(v, float) else str(v)
@@ -225,12 +246,19 @@ class _Honest:
         else:
             rng = f"a value from {lo:g} to {hi:g} {self._h_unit}"
         self._h_reject(f"{self._h_name} {shown} {self._h_unit}: enter {rng}")
-        # the kernel keeps the old value, so no change is synced by itself: send it,
-        # so the box the user typed in shows the value in use again
-        try:
-            self.send_state("value")
-        except Exception:   # noqa: BLE001 - no front-end (tests, scripts)
-            pass
+        # the kernel keeps the old value, so no change is synced by itself: send it
+        # (a moment later, once the page has had the echo of what it sent), so the
+        # box the user typed in shows the value in use again
+        import threading
+
+        def resend():
+            try:
+                self.send_state("value")
+            except Exception:   # noqa: BLE001 - no front-end (tests, scripts)
+                pass
+        timer = threading.Timer(0.3, resend)
+        timer.daemon = True
+        timer.start()
         return old
 
 
