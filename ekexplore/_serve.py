@@ -116,6 +116,33 @@ def _minutes(seconds):
     return f"{seconds / 60:g} minutes" if seconds >= 120 else f"{seconds:g} seconds"
 
 
+#: A kernel still starting is never culled before this many seconds [s]: on a
+#: busy machine a start can outlast a short ``cull_idle``, and culling it then
+#: leaves its page loading for ever.
+STARTUP_GRACE = 300
+
+
+def guarded_kernel_manager_class():
+    """jupyter_server's kernel manager, except that a kernel still starting is
+    not culled before :data:`STARTUP_GRACE` (or ``cull_idle``, if longer)."""
+    from datetime import timedelta
+
+    from jupyter_server._tz import utcnow
+    from jupyter_server.services.kernels.kernelmanager import AsyncMappingKernelManager
+
+    class GuardedKernelManager(AsyncMappingKernelManager):
+        async def cull_kernel_if_idle(self, kernel_id):
+            kernel = self._kernels.get(kernel_id)
+            if (kernel is not None and getattr(kernel, "execution_state", None) == "starting"
+                    and hasattr(kernel, "last_activity")):
+                grace = timedelta(seconds=max(STARTUP_GRACE, self.cull_idle_timeout))
+                if utcnow() - kernel.last_activity < grace:
+                    return None
+            return await super().cull_kernel_if_idle(kernel_id)
+
+    return GuardedKernelManager
+
+
 def guarded_voila_class():
     """A Voila application class whose handlers check the Host header and
     cap the number of live kernels (imports Voila only when called)."""
@@ -214,6 +241,7 @@ def main(argv=None):
     app = cls.instance()
     app.initialize(voila_argv(a.root, a.port, a.host, a.max_kernels, a.cull_idle,
                               a.cull_interval))
+    app.voila_configuration.multi_kernel_manager_class = guarded_kernel_manager_class()
     app.allow_host = list(a.allow_host)
     app.token = token
     app.start()

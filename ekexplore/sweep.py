@@ -50,7 +50,8 @@ class SweepError(ValueError):
     """A design failed in a sweep run with ``on_error="raise"``.
 
     ``row`` is the design's index in the design table, ``parameters`` its
-    inputs (name -> value); the original exception is the ``__cause__``.
+    inputs (name -> value); the message ends with the original exception's
+    type and message (the exception itself stays in the worker that ran it).
     """
 
     def __init__(self, message, row=None, parameters=None):

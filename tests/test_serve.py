@@ -36,12 +36,23 @@ CULL_INTERVAL = 1         # s
 
 
 def _request(port, path, host=None, headers=None, method="GET", body=None, timeout=30):
+    """One request; ``timeout`` [s] bounds the whole exchange (a rendering page
+    sends heartbeats, so a per-read timeout alone would never fire)."""
+    deadline = time.monotonic() + timeout
     conn = http.client.HTTPConnection("127.0.0.1", port, timeout=timeout)
     try:
         conn.request(method, path, body=body,
                      headers={"Host": host or f"127.0.0.1:{port}", **(headers or {})})
         resp = conn.getresponse()
-        return resp.status, {k.lower(): v for k, v in resp.getheaders()}, resp.read()
+        chunks = []
+        while True:
+            chunk = resp.read1(65536)
+            if not chunk:
+                break
+            chunks.append(chunk)
+            if time.monotonic() > deadline:
+                raise TimeoutError(f"{method} {path} took longer than {timeout} s")
+        return resp.status, {k.lower(): v for k, v in resp.getheaders()}, b"".join(chunks)
     finally:
         conn.close()
 
@@ -264,3 +275,30 @@ def test_loopback_prints_no_remote_warning(monkeypatch, capsys):
 def test_server_refuses_to_start_without_a_token(monkeypatch):
     monkeypatch.delenv(_serve.ENV_TOKEN, raising=False)
     assert _serve.main([str(ROOT / "dashboards"), "--port", "1"]) == 2
+
+
+def test_a_starting_kernel_is_not_culled_before_the_grace_time():
+    """On a busy machine a kernel can take longer to start than a short cull
+    time; culling it then left its page loading for ever (seen in this suite)."""
+    from datetime import timedelta
+    from types import SimpleNamespace
+
+    from jupyter_server._tz import utcnow
+
+    km = _serve.guarded_kernel_manager_class()(cull_idle_timeout=4, cull_connected=True)
+    shut = []
+
+    async def shutdown_kernel(kernel_id, *a, **k):
+        shut.append(kernel_id)
+    km.shutdown_kernel = shutdown_kernel
+
+    def kernel(state, idle_s):
+        return SimpleNamespace(execution_state=state, kernel_name="python3",
+                               kernel_spec=SimpleNamespace(metadata={}),
+                               last_activity=utcnow() - timedelta(seconds=idle_s))
+    km._kernels = {"slow-start": kernel("starting", 60),
+                   "stuck-start": kernel("starting", _serve.STARTUP_GRACE + 10),
+                   "idle": kernel("idle", 5)}
+    for kid in list(km._kernels):
+        asyncio.run(km.cull_kernel_if_idle(kid))
+    assert shut == ["stuck-start", "idle"]

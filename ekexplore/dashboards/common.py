@@ -356,6 +356,18 @@ class SetupControls:
         self.temperature = honest(HonestFloatSlider(
             min=0.0, max=100.0, step=1.0, readout_format=".0f",
             description="temperature [°C]", **_slider()), "temperature", "temperature", "°C")
+        self.buffer = w.Dropdown(options=[("none", "")] + [(b, b) for b in ek.chemistry.BUFFERS],
+                                 description="buffer", **_text())
+        self.buffer.tooltip = ("buffer titrated to the pH with its usual strong acid or base "
+                               "(the salt above is added)")
+        self.buffer_conc = w.FloatLogSlider(base=10, min=-1, max=3, step=0.05,
+                                            description="buffer conc. [mM]",
+                                            **dict(_slider(), readout=True,
+                                                   readout_format=".3g"))
+        self.buffer_pH = w.FloatSlider(min=0.0, max=14.0, step=0.05, description="buffer pH",
+                                       **dict(_slider(), readout=True, readout_format=".2f"))
+        self.in_air = w.Checkbox(description="in air (CO₂ 420 ppm)", indent=False)
+        self.electrolyte_info = w.HTML(layout=w.Layout(width="390px"))
         # wall
         self.wall_mode = w.ToggleButtons(options=[("ζ potential", "zeta"),
                                                   ("surface charge", "charge")],
@@ -411,6 +423,10 @@ class SetupControls:
         L(_link(self.valence, s, "valence"))
         L(_link(self.concentration, s, "concentration"))
         L(_link(self.temperature, s, "temperature", lambda c: c + 273.15, lambda k: k - 273.15))
+        L(_link(self.buffer, s, "buffer"))
+        L(_link(self.buffer_conc, s, "buffer_concentration"))
+        L(_link(self.buffer_pH, s, "pH"))
+        L(_link(self.in_air, s, "in_air"))
         L(_link(self.wall_mode, s, "wall_mode"))
         L(_link(self.zeta, s, "zeta", lambda v: v * 1e-3, lambda v: v * 1e3))
         L(_link(self.charge, s, "charge_density", lambda v: v * 1e-3, lambda v: v * 1e3))
@@ -428,14 +444,18 @@ class SetupControls:
         self.size.observe(self._size_from_widget, "value")
         s.observe(self._params_from_state, "shape_params")
         s.observe(self._shape_from_state, "shape")
-        s.observe(self._visibility, ["salt", "wall_mode", "shape"])
+        s.observe(self._visibility, ["salt", "wall_mode", "shape", "buffer"])
+        s.observe(self._electrolyte_info, ["salt", "valence", "concentration", "temperature",
+                                           "buffer", "buffer_concentration", "pH", "in_air"])
+        self._electrolyte_info()
         self._busy_sync = False
         self._build_extra()
         self._params_from_state()
         self._visibility()
 
         rows = [section_title("Electrolyte"), self.salt, self.valence, self.concentration,
-                self.temperature, section_title("Wall"), self.wall_mode, self.zeta, self.charge,
+                self.temperature, self.buffer, self.buffer_conc, self.buffer_pH, self.in_air,
+                self.electrolyte_info, section_title("Wall"), self.wall_mode, self.zeta, self.charge,
                 self.stern, section_title("Channel"), self.shape, self.size, self.width,
                 self.extra_box]
         if include_model:
@@ -567,8 +587,19 @@ class SetupControls:
         if not self._busy_sync:
             self.state.set_param(name, change["new"] * scale)
 
+    def _electrolyte_info(self, change=None):
+        """pH, ionic strength, conductivity and Debye length of the electrolyte."""
+        try:
+            text = html.escape(self.state.electrolyte_summary())
+        except ValueError as exc:
+            text = "⚠ " + html.escape(error_text(exc, self.state))
+        self.electrolyte_info.value = f"<small>{text}</small>"
+
     def _visibility(self, change=None):
         self.valence.layout.display = None if self.state.salt == CUSTOM else "none"
+        buffered = bool(self.state.buffer)
+        self.buffer_conc.layout.display = None if buffered else "none"
+        self.buffer_pH.layout.display = None if buffered else "none"
         zeta = self.state.wall_mode == "zeta"
         shown = {self.zeta: zeta, self.charge: not zeta,
                  self.width: self.state.shape == "Slit"}

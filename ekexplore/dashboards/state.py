@@ -76,6 +76,10 @@ class State(traitlets.HasTraits):
     valence = traitlets.Int(1)                      # custom z:z only
     concentration = traitlets.Float(1.0)            # salt concentration [mol/m^3]
     temperature = traitlets.Float(298.15)           # [K]
+    buffer = traitlets.Unicode("")                  # "" (none) or a key of ek.chemistry.BUFFERS
+    buffer_concentration = traitlets.Float(10.0)    # buffer total [mol/m^3]
+    pH = traitlets.Float(7.4)                       # buffer target pH [-]
+    in_air = traitlets.Bool(False)                  # equilibrated with CO2 of air (420 ppm)
     wall_mode = traitlets.Unicode("zeta")           # "zeta" | "charge"
     zeta = traitlets.Float(-0.05)                   # [V]
     charge_density = traitlets.Float(-0.01)         # [C/m^2]
@@ -157,10 +161,37 @@ class State(traitlets.HasTraits):
 
     # -- physics objects through the public API ---------------------------------
     def electrolyte(self, concentration=None):
+        """The electrolyte: the salt at ``concentration`` [mol/m^3] (default the
+        state's), with the buffer titrated to ``pH`` and CO2 from air if chosen."""
         c = self.concentration if concentration is None else concentration
+        co2 = "air" if self.in_air else None
+        if self.buffer or self.in_air:
+            if self.salt == CUSTOM:
+                raise ValueError("electrolyte: a custom z:z salt cannot be mixed with a buffer "
+                                 "or air; choose a listed salt")
+        if self.buffer:
+            return ek.Electrolyte.buffer(self.buffer, self.buffer_concentration, pH=self.pH,
+                                         salt={self.salt: c}, temperature=self.temperature,
+                                         co2=co2)
+        if self.in_air:
+            return ek.Electrolyte.mix({self.salt: c}, temperature=self.temperature, co2=co2)
         if self.salt == CUSTOM:
             return ek.Electrolyte.symmetric(int(self.valence), c, temperature=self.temperature)
         return ek.Electrolyte.salt(self.salt, c, temperature=self.temperature)
+
+    def electrolyte_summary(self):
+        """pH, ionic strength, conductivity and Debye length of the electrolyte, in
+        screen units (one line of text)."""
+        e = self.electrolyte()
+        pH = e.pH
+        parts = [f"pH {float(pH):.2f}" if pH is not None else "pH not set (unbuffered)"]
+        parts.append(f"ionic strength {float(e.ionic_strength):.4g} mM")
+        parts.append(f"conductivity {float(e.conductivity()) * 10:.4g} mS/cm")
+        parts.append(f"Debye length {float(e.debye_length) * 1e9:.3g} nm")
+        if e.titrant is not None:
+            sub, amount = e.titrant
+            parts.append(f"titrant {float(amount):.3g} mM {sub}")
+        return " · ".join(parts)
 
     def wall(self, zeta=None):
         if self.wall_mode == "zeta" or zeta is not None:
@@ -219,6 +250,10 @@ class State(traitlets.HasTraits):
 
     def ionic_strength_factor(self):
         """Ionic strength per unit salt concentration [-] of the chosen electrolyte."""
+        if (self.buffer or self.in_air) and self.salt in ek.SALTS:
+            # the maps vary the added salt; the buffer's own ionic strength is
+            # not in this factor
+            return float(np.asarray(ek.Electrolyte.salt(self.salt, 1.0).ionic_strength))
         return float(np.asarray(self.electrolyte(1.0).ionic_strength))
 
     # -- export -----------------------------------------------------------------
@@ -236,7 +271,15 @@ class State(traitlets.HasTraits):
         def q(v):
             return repr(str(v))
 
-        if self.salt == CUSTOM:
+        co2 = ", co2='air'" if self.in_air else ""
+        if self.buffer and self.buffer in ek.chemistry.BUFFERS:
+            el = (f"ek.Electrolyte.buffer({q(self.buffer)}, {f(self.buffer_concentration)}, "
+                  f"pH={f(self.pH)}, salt={{{q(self.salt)}: {f(self.concentration)}}}, "
+                  f"temperature={f(self.temperature)}{co2})")
+        elif self.in_air and self.salt in ek.SALTS:
+            el = (f"ek.Electrolyte.mix({{{q(self.salt)}: {f(self.concentration)}}}, "
+                  f"temperature={f(self.temperature)}{co2})")
+        elif self.salt == CUSTOM:
             el = (f"ek.Electrolyte.symmetric({int(self.valence)}, {f(self.concentration)}, "
                   f"temperature={f(self.temperature)})")
         else:
