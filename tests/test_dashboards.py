@@ -395,3 +395,11 @@ def test_value_typed_in_the_page_is_refused_before_it_is_set():
     assert "salt conc. 0 mM" in v.status.message
     entry.set_state({"value": 20.0})                  # a good value goes through
     assert v.state.concentration == 20.0 and v.status.kind == "ok"
+
+
+def test_buffer_controls_are_not_clamped_either():
+    v = ExplorerView(State())
+    entry = v.controls.entry(v.controls.buffer_pH)
+    entry.set_state({"value": 15.0})
+    assert v.state.pH == 7.4
+    assert "buffer pH 15: enter a value from 0 to 14" in v.status.message
