@@ -379,3 +379,27 @@ def test_typing_box_is_checked_in_the_kernel_not_clamped_in_the_browser():
     assert v.status.kind == "ok"
     c.zeta.value = -30.0                               # the slider moves the box
     assert c.entry(c.zeta).value == -30.0
+
+
+def test_value_typed_in_the_page_is_refused_before_it_is_set():
+    # what the page sends: ipywidgets sets traits inside a hold, where a
+    # validator alone would see the typed value only after it was set
+    v = ExplorerView(State())
+    box = v.controls.stern
+    box.set_state({"value": -3.0})
+    assert box.value == 0.0 and v.state.stern_conductance == 0.0
+    assert "Stern cond. -3 nS: enter a value from 0 to 1000 nS" in v.status.message
+    entry = v.controls.entry(v.controls.concentration)
+    entry.set_state({"value": 0.0})
+    assert entry.value == 1.0 and v.state.concentration == 1.0
+    assert "salt conc. 0 mM" in v.status.message
+    entry.set_state({"value": 20.0})                  # a good value goes through
+    assert v.state.concentration == 20.0 and v.status.kind == "ok"
+
+
+def test_buffer_controls_are_not_clamped_either():
+    v = ExplorerView(State())
+    entry = v.controls.entry(v.controls.buffer_pH)
+    entry.set_state({"value": 15.0})
+    assert v.state.pH == 7.4
+    assert "buffer pH 15: enter a value from 0 to 14" in v.status.message

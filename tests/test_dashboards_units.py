@@ -53,7 +53,8 @@ def test_charge_density_in_mc_per_m2(si, text):
     assert U.charge_density(si) == text
 
 
-@pytest.mark.parametrize("si, text", [(1e3, "1 kPa"), (2.5e5, "250 kPa"), (-300.0, "-0.3 kPa")])
+@pytest.mark.parametrize("si, text", [(1e3, "1 kPa"), (2.5e5, "250 kPa"), (-300.0, "-0.3 kPa"),
+                                      (8.32e7, "83.2 MPa")])
 def test_pressure_in_kpa(si, text):
     assert U.pressure(si) == text
 

@@ -423,3 +423,25 @@ def test_dho_symmetric_salts_relaxation_parameter():
         lam0 = z**2 * F**2 * 1.5e-9 / (R * T)
         expected = 2 * c * (lam0 * (1 - relax) - ephor)
         assert_allclose(e.conductivity("dho"), expected, rtol=1e-12)
+
+
+def test_pH_of_a_salt_is_recorded_and_broadcast():
+    # an unbuffered salt has no pH unless given; a given pH broadcasts like any
+    # other parameter and sets the H+ activity 10^-pH
+    assert Electrolyte.salt("KCl", 1.0).pH is None
+    assert Electrolyte.salt("KCl", 1.0).hydrogen_ion_activity is None
+    e = Electrolyte.salt("KCl", [[1.0], [10.0]], pH=[6.0, 7.0, 8.0])
+    assert e.shape == (2, 3) and e.pH.shape == (2, 3)
+    assert_allclose(e.hydrogen_ion_activity[1], [1e-6, 1e-7, 1e-8], rtol=1e-12)
+    with pytest.raises(ValueError, match="pH"):
+        Electrolyte.salt("KCl", 1.0, pH=20.0)
+
+
+def test_named_dispatches_salts_and_buffers():
+    assert_allclose(Electrolyte.named("NaCl", 5.0).conductivity(),
+                    Electrolyte.salt("NaCl", 5.0).conductivity(), rtol=1e-15)
+    assert_allclose(Electrolyte.named("MOPS", 5.0, pH=7.0).pH, 7.0, atol=1e-6)
+    with pytest.raises(ValueError, match="pH"):
+        Electrolyte.named("MOPS", 5.0)
+    with pytest.raises(ValueError, match="electrolyte name"):
+        Electrolyte.named("seawater", 5.0)

@@ -217,20 +217,49 @@ class _Honest:
                 self.max = v
         return v
 
+    def _acceptable(self, v):
+        lo, hi, lo_open = self._h_limits
+        try:
+            v = float(v)
+        except (TypeError, ValueError):
+            return False
+        return bool(np.isfinite(v)) and (v > lo if lo_open else v >= lo) and v <= hi
+
+    def set_state(self, sync_data):
+        """A value typed in the page: refused here, before traitlets sets it
+        (inside ipywidgets' hold the validator would only see it afterwards).
+        The page's echo then carries the value in use, so the box shows it."""
+        if "value" in sync_data and not self._acceptable(sync_data["value"]):
+            typed = sync_data["value"]
+            sync_data = dict(sync_data, value=self.value)
+            super().set_state(sync_data)
+            self._refuse(typed if not isinstance(typed, (int, float)) else float(typed),
+                         self.value)
+            return
+        super().set_state(sync_data)
+
     def _refuse(self, v, old):
         lo, hi, lo_open = self._h_limits
         shown = f"{v:.4g}" if isinstance(v, float) else str(v)
+        u = f" {self._h_unit}" if self._h_unit else ""
         if lo_open and lo == 0.0:
-            rng = f"a value above 0 and up to {hi:g} {self._h_unit}"
+            rng = f"a value above 0 and up to {hi:g}{u}"
         else:
-            rng = f"a value from {lo:g} to {hi:g} {self._h_unit}"
-        self._h_reject(f"{self._h_name} {shown} {self._h_unit}: enter {rng}")
-        # the kernel keeps the old value, so no change is synced by itself: send it,
-        # so the box the user typed in shows the value in use again
-        try:
-            self.send_state("value")
-        except Exception:   # noqa: BLE001 - no front-end (tests, scripts)
-            pass
+            rng = f"a value from {lo:g} to {hi:g}{u}"
+        self._h_reject(f"{self._h_name} {shown}{u}: enter {rng}")
+        # the kernel keeps the old value, so no change is synced by itself: send it
+        # (a moment later, once the page has had the echo of what it sent), so the
+        # box the user typed in shows the value in use again
+        import threading
+
+        def resend():
+            try:
+                self.send_state("value")
+            except Exception:   # noqa: BLE001 - no front-end (tests, scripts)
+                pass
+        timer = threading.Timer(0.3, resend)
+        timer.daemon = True
+        timer.start()
         return old
 
 
@@ -282,6 +311,8 @@ LIMITS = {
     "voltage": (-1e5, 1e5, False),
     "pressure": (-1e5, 1e5, False),                               # kPa
     "channels": (1, 1_000_000, False),
+    "buffer_conc": (1e-3, 5e3, False),                            # as the salt, in mM
+    "pH": (0.0, 14.0, False),
     "max_pressure": (0.0, 1e5, True),
     "max_voltage": (0.0, 1e5, True),
 }
@@ -332,12 +363,14 @@ class SetupControls:
                                  description="buffer", **_text())
         self.buffer.tooltip = ("buffer titrated to the pH with its usual strong acid or base "
                                "(the salt above is added)")
-        self.buffer_conc = w.FloatLogSlider(base=10, min=-1, max=3, step=0.05,
-                                            description="buffer conc. [mM]",
-                                            **dict(_slider(), readout=True,
-                                                   readout_format=".3g"))
-        self.buffer_pH = w.FloatSlider(min=0.0, max=14.0, step=0.05, description="buffer pH",
-                                       **dict(_slider(), readout=True, readout_format=".2f"))
+        self.buffer_conc = honest(HonestFloatLogSlider(base=10, min=-1, max=3, step=0.05,
+                                                       readout_format=".3g",
+                                                       description="buffer conc. [mM]",
+                                                       **_slider()),
+                                  "buffer_conc", "buffer conc.", "mM", log=True)
+        self.buffer_pH = honest(HonestFloatSlider(min=0.0, max=14.0, step=0.05,
+                                                  readout_format=".2f", description="buffer pH",
+                                                  **_slider()), "pH", "buffer pH", "")
         self.in_air = w.Checkbox(description="in air (CO₂ 420 ppm)", indent=False)
         self.electrolyte_info = w.HTML(layout=w.Layout(width="390px"))
         # wall
@@ -570,11 +603,10 @@ class SetupControls:
     def _visibility(self, change=None):
         self.valence.layout.display = None if self.state.salt == CUSTOM else "none"
         buffered = bool(self.state.buffer)
-        self.buffer_conc.layout.display = None if buffered else "none"
-        self.buffer_pH.layout.display = None if buffered else "none"
         zeta = self.state.wall_mode == "zeta"
         shown = {self.zeta: zeta, self.charge: not zeta,
-                 self.width: self.state.shape == "Slit"}
+                 self.width: self.state.shape == "Slit",
+                 self.buffer_conc: buffered, self.buffer_pH: buffered}
         for wid, on in shown.items():
             wid.layout.display = None if on else "none"
             if id(wid) in self.rows:

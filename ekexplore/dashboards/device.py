@@ -187,6 +187,8 @@ class DeviceView(ViewUpdates):
         self.sources["generator"].data = dict(
             load=d.load, power=power * fpow,
             efficiency=d.load_efficiency * 100 if eff_ok else np.full(d.load.shape, np.nan))
+        self.figures["efficiency"].title.text = (
+            "" if eff_ok else "efficiency not shown: impossible with this model here")
         if eff_ok and np.any(d.load_efficiency > 0):
             k = int(np.nanargmax(d.load_efficiency))
             self.sources["best"].data = dict(load=[d.load[k]], power=[power[k] * fpow],

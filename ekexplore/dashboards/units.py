@@ -140,10 +140,13 @@ def power(p):
 def pressure(p):
     """Pressure [Pa] as text in kPa (the unit of the pressure inputs).
 
-    >>> pressure(2500.0)
-    '2.5 kPa'
+    >>> pressure(2500.0), pressure(8.32e7)
+    ('2.5 kPa', '83.2 MPa')
     """
-    return f"{num(float(p) / 1e3)} kPa"
+    v = float(p)
+    if abs(v) >= 1e7:       # from 10 MPa on, MPa (never an exponent)
+        return f"{num(v / 1e6)} MPa"
+    return f"{num(v / 1e3)} kPa"
 
 
 def charge_density(s):

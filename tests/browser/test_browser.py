@@ -241,7 +241,7 @@ def test_device_page(server, browser, artifacts):
         assert "can kill" in body and "pressure ratings" in body
         before = p.text(".ekx-readout")
         volt = p.page.locator(".widget-text", has=p.page.locator(
-            ".widget-label", has_text="voltage")).locator("input")
+            ".widget-label", has_text=re.compile(r"^voltage \[V\]$"))).locator("input")
         volt.fill("150")
         volt.press("Enter")
         p.page.wait_for_function(
