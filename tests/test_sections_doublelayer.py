@@ -30,7 +30,8 @@ def test_circle_ellipse_reduces_to_tube(model):
         a = ek.solve(Ellipse(100e-9, 100e-9), KCL, wall, model=model, accuracy=1e-3)
         b = ek.solve(ek.Tube(100e-9), KCL, wall, model=model)
         assert_allclose(a.matrix, b.matrix, rtol=1e-4)
-        assert a.error_estimate <= 1e-3
+        if model == "pb":   # thin and dh also carry their model error (a priori)
+            assert a.error_estimate <= 1e-3
 
 
 @pytest.mark.parametrize("model", ["thin", "dh", "pb"])
@@ -217,6 +218,12 @@ def test_strongly_overlapped_layers_keep_reciprocity(wall, model):
     # variation; solving for the deviation keeps reciprocity at round-off
     e = ek.Electrolyte.salt("KCl", 0.001)
     for ch in (Rectangle(2.4e-9, 1.2e-9), Polygon(np.array([[0, 0], [2, 0], [1, 1.5]]) * 1.2e-9)):
+        if model == "dh" and wall.condition == "charge":
+            # the linear model puts this charge at a wall potential of hundreds of
+            # volts, beyond the range of every model: refused, naming the model
+            with pytest.raises(ValueError, match="model='dh'"):
+                ek.solve(ch, e, wall, model=model, accuracy=1e-3)
+            continue
         r = ek.solve(ch, e, wall, model=model, accuracy=1e-3)
         assert float(r.kappa_size) < 3e-3
         assert float(r.reciprocity_residual) <= 1e-8
