@@ -30,7 +30,7 @@ import numpy as np
 from scipy import constants, special
 from scipy.linalg import lapack
 
-from .doublelayer import ConvergenceError, make_grid, PB_PHI_MAX
+from .doublelayer import ConvergenceError, make_grid, PB_PHI_CLIP
 from .wall import _osmotic_root
 
 __all__ = ["solve_regulated_pb", "regulated_layer", "regulated_wall", "isolated_scaled",
@@ -94,7 +94,7 @@ def isolated_scaled(z, w, K, c_s, sites):
     def grahame(phi):
         return np.sign(phi) * K * np.sqrt(2.0) * _osmotic_root(zc, w, phi)
 
-    lim = np.full(K.shape, PB_PHI_MAX / np.max(np.abs(z)))
+    lim = np.full(K.shape, PB_PHI_CLIP / np.max(np.abs(z)))
     phi_w = _bisect_wall(-lim, lim, lambda p: sites(p + grahame(p) / c_s)[0] - grahame(p))
     sg = grahame(phi_w)
     return phi_w, phi_w + sg / c_s, sg
@@ -111,7 +111,7 @@ def dh_scaled(m, K, c_s, sites):
         slope = K * np.tanh(K)
     else:
         slope = K * special.ive(1, K) / special.ive(0, K)
-    lim = np.full(K.shape, PB_PHI_MAX)
+    lim = np.full(K.shape, PB_PHI_CLIP)
     phi_w = _bisect_wall(-lim, lim, lambda p: sites(p + slope * p / c_s)[0] - slope * p)
     return phi_w, phi_w + slope * phi_w / c_s, slope * phi_w
 
@@ -177,7 +177,7 @@ def solve_regulated_pb(grid, K, z, w, c_s, sites, start=None, tol=1e-6, max_iter
     dbase[:, :-1] += cext
     dbase[:, 1:] += cext
     ebase = np.concatenate([-cext, np.zeros((B, 1))], axis=1)  # (B, n+1)
-    lim = 2.0 * PB_PHI_MAX / np.min(np.abs(z))
+    lim = 2.0 * PB_PHI_CLIP / np.min(np.abs(z))
 
     def energy(v, idx):
         d = np.diff(v, axis=1)
@@ -343,7 +343,7 @@ def regulated_layer(m, half_size, electrolyte, surface, pH, accuracy=1e-6):
     # inner scale of the log grid: a quarter of the smaller of Debye and
     # Gouy-Chapman lengths of the isolated wall (as the pb kernel)
     zc = np.max(np.abs(z))
-    a = np.minimum(np.abs(zc * phi_w), 2.0 * PB_PHI_MAX)
+    a = np.minimum(np.abs(zc * phi_w), 2.0 * PB_PHI_CLIP)
     x0 = 0.25 * np.minimum(1.0 / (K * (1.0 + np.sinh(0.5 * a))), 1.0)
     dxi = float(np.clip(DXI * (accuracy / 1e-6)**0.25, 0.03, 0.3))
     need = np.maximum(MIN_CELLS, np.ceil(np.log1p(1.0 / x0) / dxi))

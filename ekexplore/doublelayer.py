@@ -27,10 +27,16 @@ from .wall import WALL_CONDITIONS, isolated_wall_potential
 
 __all__ = ["Grid", "make_grid", "solve_pb", "ConvergenceError", "donnan_potential",
            "gouy_chapman_potential", "gouy_chapman_length", "wall_potential_estimate",
-           "PB_PHI_MAX"]
+           "PB_PHI_MAX", "PB_PHI_CLIP"]
 
 #: Largest scaled wall potential |z e zeta / kT| the nonlinear solver accepts.
-PB_PHI_MAX = 40.0
+#: Newton stalls on round-off above about 31 (an update of 1e-4 that no longer
+#: shrinks, seen for 2:1 and 1:2 salts with the divalent ion as counter-ion,
+#: e.g. Na2SO4 at +0.21 V), so the accepted range stops at 30; validated to 20.
+PB_PHI_MAX = 30.0
+#: Internal clip of scaled potentials in the solver's starts and line searches
+#: (kept at its earlier value, so results inside the accepted range are unchanged).
+PB_PHI_CLIP = 40.0
 #: Newton stopping tolerance for walls that are not Dirichlet (see :func:`solve_pb`).
 CHARGE_NEWTON_TOL = 1e-10
 
@@ -155,10 +161,10 @@ def gouy_chapman_length(debye, z, phi_w):
 
     The Debye length for weak potentials, the Gouy–Chapman length (the
     distance over which the counter-ions screen the wall, 2 debye exp(-|z phi_w|/2)
-    at high potential) for strong ones; |z phi_w| is capped at 2 PB_PHI_MAX.
+    at high potential) for strong ones; |z phi_w| is capped at 2 PB_PHI_CLIP.
     """
     zmax = np.max(np.abs(z))
-    a = np.minimum(np.abs(zmax * phi_w), 2.0 * PB_PHI_MAX)
+    a = np.minimum(np.abs(zmax * phi_w), 2.0 * PB_PHI_CLIP)
     return debye / (1.0 + np.sinh(0.5 * a))
 
 
@@ -183,7 +189,7 @@ def donnan_potential(z, w, target):
     charge balances a given wall charge.
     """
     zabs = np.max(np.abs(z))
-    lo = np.full(np.shape(target), -PB_PHI_MAX * 2 / zabs)
+    lo = np.full(np.shape(target), -PB_PHI_CLIP * 2 / zabs)
     hi = -lo
     for _ in range(100):
         mid = 0.5 * (lo + hi)
@@ -278,7 +284,7 @@ def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
             return e - (grid.m + 1) * wall.charge_energy(value[idx], ph[:, 0])
         return e - np.sum(bvec[idx] * ph, axis=1)
 
-    lim = 2.0 * PB_PHI_MAX / np.min(np.abs(z))
+    lim = 2.0 * PB_PHI_CLIP / np.min(np.abs(z))
     # parts of the Jacobian that do not change between Newton steps
     dbase = np.zeros((B, n))
     dbase[:, :-1] += c

@@ -152,7 +152,7 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None,
     Stokes flow), the channel in equilibrium with a reservoir of the given
     electrolyte, no slip at the shear plane (the wall), a uniform axial
     field and pressure gradient (a long channel), water as solvent. The pb
-    solver covers kappa*half-size from 1e-3 to 1e5 and |z e zeta/kT| up to 40
+    solver covers kappa*half-size from 1e-3 to 1e5 and |z e zeta/kT| up to 30
     (validated to 20). The two off-diagonals are computed independently,
     L21 = <rho_e u_p>/G and L12 = <u_eo>/E; their relative difference is
     reported as ``reciprocity_residual`` (Onsager 1931).
