@@ -178,7 +178,7 @@ def _set_concentration(state, c):
 def b2_explorer(repeats):
     from ekexplore.dashboards.state import listed_shapes
     try:
-        from ekexplore.sections._meshes import _cached
+        from ekexplore.sections.meshes import _cached
     except ImportError:   # a core without 2D sections
         _cached = None
     rows = []

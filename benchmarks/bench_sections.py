@@ -9,8 +9,8 @@ import numpy as np
 
 import ekexplore as ek
 from ekexplore.sections import Ellipse, IsotropicEtch, Polygon, Rectangle, Trapezoid
-from ekexplore.sections._kernel import prolong, scaled_solution
-from ekexplore.sections._meshes import _cached, build_mesh
+from ekexplore.sections.solutions import prolong, scaled_solution
+from ekexplore.sections.meshes import _cached, build_mesh
 
 
 def _time(fn, repeat=3):

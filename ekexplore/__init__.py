@@ -13,7 +13,8 @@ from .channels import Channel, Slit, Tube, SHAPES, register_shape
 from .doublelayer import ConvergenceError
 from .transport import solve, Result
 from .profiles import Profiles
-from .regimes import estimated_model_errors, regime_verdict
+from .models import estimated_model_errors
+from .regimes import regime_verdict
 from .sweep import sweep, design_table, read_sweep, SweepError, SweepWarning
 from .sections import Rectangle, Trapezoid, IsotropicEtch, Ellipse, Polygon
 

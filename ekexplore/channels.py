@@ -55,7 +55,7 @@ class Channel:
     """Base class of all cross-sections.
 
     Subclasses set :attr:`kind` and implement the geometry properties and
-    ``_kernel(conditions, model, options)``, which returns the transport
+    ``_kernel(conditions, models, options)``, which returns the transport
     coefficients as a dict (see ``ekexplore._state``).
     """
 
@@ -100,7 +100,7 @@ class Channel:
         """Fanning friction factor times Reynolds number on the hydraulic diameter [-]."""
         raise NotImplementedError
 
-    def _kernel(self, conditions, model, options):  # pragma: no cover - interface
+    def _kernel(self, conditions, models, options):  # pragma: no cover - interface
         raise NotImplementedError
 
     def __repr__(self):
@@ -167,9 +167,9 @@ class Slit(Channel):
     def poiseuille_number(self):
         return np.full(np.shape(self.gap), 24.0)
 
-    def _kernel(self, conditions, model, options):
+    def _kernel(self, conditions, models, options):
         from .kernels1d import transport_1d
-        return transport_1d(0, self.half_size, conditions, model, options)
+        return transport_1d(0, self.half_size, conditions, models, options)
 
 
 @register_shape
@@ -211,6 +211,6 @@ class Tube(Channel):
     def poiseuille_number(self):
         return np.full(np.shape(self.diameter), 16.0)
 
-    def _kernel(self, conditions, model, options):
+    def _kernel(self, conditions, models, options):
         from .kernels1d import transport_1d
-        return transport_1d(1, self.half_size, conditions, model, options)
+        return transport_1d(1, self.half_size, conditions, models, options)

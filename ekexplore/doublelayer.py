@@ -23,13 +23,14 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.linalg import lapack
 
+from .wall import WALL_CONDITIONS, isolated_wall_potential
+
 __all__ = ["Grid", "make_grid", "solve_pb", "ConvergenceError", "donnan_potential",
+           "gouy_chapman_potential", "gouy_chapman_length", "wall_potential_estimate",
            "PB_PHI_MAX"]
 
 #: Largest scaled wall potential |z e zeta / kT| the nonlinear solver accepts.
 PB_PHI_MAX = 40.0
-#: Computational spacing in the log-mapped coordinate of the coarse grid.
-DXI = 0.05
 
 
 class ConvergenceError(RuntimeError):
@@ -132,8 +133,53 @@ def _laplacian(grid_c, phi):
     return out
 
 
+def gouy_chapman_potential(z_counter, phi_w, decay):
+    """Scaled potential of an isolated flat double layer (Gouy–Chapman, z:z form).
+
+    phi = (4/z) artanh(tanh(z phi_w / 4) decay), with ``decay`` = exp(-kappa x)
+    at wall distance x (or any factor from 1 at the wall to 0 far away);
+    ``z_counter`` the valence that sets the nonlinearity (the largest |z|).
+
+    References: Gouy, G. (1910). J. Phys. Theor. Appl. 9, 457,
+    doi:10.1051/jphystap:019100090045700; Chapman, D. L. (1913). Phil. Mag. 25, 475,
+    doi:10.1080/14786440408634187.
+    """
+    t = np.tanh(z_counter * phi_w / 4.0) * decay
+    return 4.0 / z_counter * np.arctanh(np.clip(t, -1 + 1e-16, 1 - 1e-16))
+
+
+def gouy_chapman_length(debye, z, phi_w):
+    """Inner length of a charged layer, debye / (1 + sinh(|z_max phi_w| / 2)).
+
+    The Debye length for weak potentials, the Gouy–Chapman length (the
+    distance over which the counter-ions screen the wall, 2 debye exp(-|z phi_w|/2)
+    at high potential) for strong ones; |z phi_w| is capped at 2 PB_PHI_MAX.
+    """
+    zmax = np.max(np.abs(z))
+    a = np.minimum(np.abs(zmax * phi_w), 2.0 * PB_PHI_MAX)
+    return debye / (1.0 + np.sinh(0.5 * a))
+
+
+def wall_potential_estimate(z, w, K, sigma_s, geometry_factor):
+    """Scaled wall potential of a constant-charge wall, estimated without a solve.
+
+    The larger of the isolated-wall (Grahame) potential and the uniform
+    (Donnan) potential that neutralises the wall charge over the section,
+    K^2 f(phi_D) = -geometry_factor sigma_s, with geometry_factor =
+    perimeter x L / area (1 slit, 2 tube). ``z`` (k,), ``w`` (k, B).
+    """
+    iso = isolated_wall_potential(z, w, K, sigma_s)
+    don = donnan_potential(z, w, -geometry_factor * sigma_s / K**2)
+    return np.where(np.abs(don) > np.abs(iso), don, iso)
+
+
 def donnan_potential(z, w, target):
-    """Solve f(phi) = target for phi by bisection (f is decreasing). Shapes (B,)."""
+    """Solve f(phi) = target for phi by bisection (f is decreasing). Shapes (B,).
+
+    f = sum_i z_i w_i (exp(-z_i phi) - 1) is the scaled charge density of a
+    uniform potential phi: the Donnan potential of a section whose space
+    charge balances a given wall charge.
+    """
     zabs = np.max(np.abs(z))
     lo = np.full(np.shape(target), -PB_PHI_MAX * 2 / zabs)
     hi = -lo
@@ -146,18 +192,17 @@ def donnan_potential(z, w, target):
     return np.where(target == 0, 0.0, 0.5 * (lo + hi))
 
 
-def _initial_guess(grid, K, z, w, condition, value):
+def _initial_guess(grid, K, z, w, wall, value):
     """A Gouy-Chapman-like start, shifted to the Donnan level for overlap."""
-    if condition == "potential":
+    zc = np.max(np.abs(z))
+    if wall.dirichlet:
         phi_w = value
     else:
-        # isolated-wall estimate of the wall potential from the charge (z:z-like)
-        zc = np.max(np.abs(z))
+        # a rough start only (the z:z form of the inverse Grahame relation,
+        # cheaper than the exact one of ekexplore.wall for a start)
         phi_w = 2.0 / zc * np.arcsinh(value * zc / (2.0 * K))
-    zc = np.max(np.abs(z))
-    t = np.tanh(zc * phi_w / 4.0)[:, None] * np.exp(-(K[:, None]) * grid.x)
-    phi = 4.0 / zc * np.arctanh(np.clip(t, -1 + 1e-16, 1 - 1e-16))
-    if condition == "charge":
+    phi = gouy_chapman_potential(zc, phi_w[:, None], np.exp(-(K[:, None]) * grid.x))
+    if not wall.dirichlet:
         # overall charge balance with a uniform potential: K^2 f(phi_D) = -(m+1) sigma
         phi_d = donnan_potential(z, w, -(grid.m + 1) * value / K**2)
         phi = np.where(np.abs(phi_d)[:, None] > np.abs(phi), phi_d[:, None], phi)
@@ -166,7 +211,7 @@ def _initial_guess(grid, K, z, w, condition, value):
     return phi
 
 
-def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-6, max_iter=200):
+def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
     """Batched Newton solve of the scaled Poisson–Boltzmann equation.
 
     Parameters
@@ -179,9 +224,13 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-6, max_iter=200)
         Valences.
     w : ndarray (k, B)
         Weights c_i / sum z_j^2 c_j.
-    condition : {"potential", "charge"}
+    wall : ekexplore.wall.WallCondition
+        The wall condition: Dirichlet, or a scaled charge s(phi_w) whose value
+        and slope enter the residual and the Jacobian at every Newton step
+        (a fixed charge when ``wall.nonlinear`` is false).
     value : ndarray (B,)
-        Scaled wall potential, or scaled charge sigma R e / (eps k T).
+        Scaled wall potential, or the scaled value of the charge condition
+        (sigma R e / (eps k T) for a fixed charge).
     phi0 : ndarray (B, n), optional
         Initial guess.
 
@@ -202,21 +251,27 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-6, max_iter=200)
     iterate is then exact to about ``tol**2`` and a further step would only
     confirm it. Raises :class:`ConvergenceError` otherwise.
     """
+    if isinstance(wall, str):
+        wall = WALL_CONDITIONS[wall]
     B, n = grid.x.shape
     c = grid.area / grid.dx                                  # (B, n-1)
     K2V = (K**2)[:, None] * grid.volume                      # (B, n)
     bvec = np.zeros((B, n))
-    if condition == "charge":
+    dirichlet = wall.dirichlet
+    nonlinear = wall.nonlinear and not dirichlet
+    if not dirichlet and not nonlinear:
         bvec[:, 0] = (grid.m + 1) * value
-    phi = _initial_guess(grid, K, z, w, condition, value) if phi0 is None else phi0.copy()
-    if condition == "potential":
+    phi = _initial_guess(grid, K, z, w, wall, value) if phi0 is None else phi0.copy()
+    if dirichlet:
         phi[:, 0] = value
-    dirichlet = condition == "potential"
 
     def energy(ph, idx):
         dphi = np.diff(ph, axis=1)
-        return (0.5 * np.sum(c[idx] * dphi**2, axis=1) + np.sum(K2V[idx] * _g(z, w[:, idx], ph), axis=1)
-                - np.sum(bvec[idx] * ph, axis=1))
+        e = 0.5 * np.sum(c[idx] * dphi**2, axis=1) + np.sum(K2V[idx] * _g(z, w[:, idx], ph),
+                                                              axis=1)
+        if nonlinear:   # - (m+1) int_0^phi_w s dphi
+            return e - (grid.m + 1) * wall.charge_energy(value[idx], ph[:, 0])
+        return e - np.sum(bvec[idx] * ph, axis=1)
 
     lim = 2.0 * PB_PHI_MAX / np.min(np.abs(z))
     # parts of the Jacobian that do not change between Newton steps
@@ -243,6 +298,10 @@ def solve_pb(grid, K, z, w, condition, value, phi0=None, tol=1e-6, max_iter=200)
         F += ba
         fp *= K2Va
         d = da - fp
+        if nonlinear:   # the wall charge at the current wall potential, and its slope
+            va = value[active]
+            F[:, 0] += (grid.m + 1) * wall.charge(va, ph[:, 0])
+            d[:, 0] -= (grid.m + 1) * wall.charge_slope(va, ph[:, 0])
         if dirichlet:
             d[:, 0] = 1.0
             F[:, 0] = 0.0

@@ -11,14 +11,13 @@ from types import MappingProxyType
 import numpy as np
 from scipy import constants
 
+from ._constants import F, R
 from ._validate import (broadcast_named, check_choice, check_integer, check_nonnegative,
                         check_positive, check_range)
 from .medium import check_temperature, water_permittivity, water_viscosity
 
 __all__ = ["Ion", "ION_TABLE", "SALTS", "Electrolyte", "debye_length"]
 
-F = constants.physical_constants["Faraday constant"][0]
-R = constants.R
 T_REF = constants.zero_Celsius + 25.0
 
 

@@ -60,34 +60,34 @@ class Profiles(FieldTotals):
     units: dict = field(default_factory=lambda: dict(UNITS))
 
     @classmethod
-    def from_1d(cls, m, grid, phi, b, models, cond, pressure_gradient, field):
-        """Build from a scaled 1D solution (internal)."""
-        shape = cond.shape
+    def from_1d(cls, m, grid, phi, b, models, shape, pressure_gradient, field):
+        """Build from a scaled 1D solution on ``grid`` for the flat batch ``b`` (internal)."""
         n = phi.shape[1]
-        R = b["R"][:, None]
-        VT = b["VT"][:, None]
-        z = b["z"]
+        R = b.length[:, None]
+        VT = b.VT[:, None]
+        z = b.z
         em1 = np.expm1(-z[:, None, None] * phi[None])
-        conc = b["c"][:, :, None] * (em1 + 1.0)
-        fvals = np.sum((z[:, None] * b["w"])[:, :, None] * em1, axis=0)
-        rho = (b["eps"] * b["kappa"]**2)[:, None] * VT * fvals
-        eta = b["eta"][:, None]
+        conc = b.c[:, :, None] * (em1 + 1.0)
+        fvals = np.sum(b.charge_weights[:, :, None] * em1, axis=0)
+        rho = (b.eps * b.kappa**2)[:, None] * VT * fvals
+        eta = b.eta[:, None]
         up = pressure_gradient * R**2 / eta * grid.poiseuille
         phi_w = phi[:, :1]
-        ueo = b["eps"][:, None] / eta * VT * (phi - phi_w) * field
+        ueo = b.eps[:, None] / eta * VT * (phi - phi_w) * field
         thin = (models == "thin")[:, None]
-        ueo = np.where(thin, -b["eps"][:, None] / eta * VT * phi_w * field * np.ones_like(phi), ueo)
-        mig = np.sum((b["lam"][:, :, None]) * conc, axis=0) * field
+        ueo = np.where(thin, -b.eps[:, None] / eta * VT * phi_w * field * np.ones_like(phi), ueo)
+        mig = np.sum(b.molar_conductivity[:, :, None] * conc, axis=0) * field
         conv = rho * (up + ueo)
+
         def rs(a):
             return a.reshape(shape + (n,))
         return cls(coordinate=rs(grid.s * R), wall_distance=rs(grid.x * R),
                    potential=rs(phi * VT),
                    concentrations=conc.reshape((len(z),) + shape + (n,)),
-                   ion_names=tuple(cond.ion_names), charge_density=rs(rho),
+                   ion_names=tuple(b.ion_names), charge_density=rs(rho),
                    velocity_pressure=rs(up), velocity_electroosmotic=rs(ueo),
                    current_migration=rs(mig), current_convective=rs(conv),
-                   debye_length=(1.0 / b["kappa"]).reshape(shape),
+                   debye_length=(1.0 / b.kappa).reshape(shape),
                    model=np.asarray(models).reshape(shape),
                    pressure_gradient=float(pressure_gradient), field=float(field),
                    coordinate_name="y" if m == 0 else "r")

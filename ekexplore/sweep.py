@@ -26,7 +26,8 @@ import numpy as np
 from ._validate import check_choice, check_integer, check_scalar
 from .channels import SHAPES
 from .electrolyte import SALTS, Electrolyte
-from .transport import MODEL_CHOICES, solve
+from .models import MODEL_CHOICES
+from .transport import solve
 from .wall import Wall
 
 __all__ = ["sweep", "design_table", "read_sweep", "SweepError", "SweepWarning"]

@@ -16,14 +16,11 @@ from ._state import Conditions
 from ._validate import (broadcast_named, check_choice, check_finite_result, check_positive,
                         check_range, check_scalar)
 from .channels import Channel
-from .doublelayer import PB_PHI_MAX
 from .electrolyte import Electrolyte
-from .regimes import ERROR_METHOD
+from .models import ERROR_METHOD, MODEL_CHOICES, PHI_MAX as PB_PHI_MAX, auto_choice
 from .wall import Wall
 
 __all__ = ["solve", "Result", "MODEL_CHOICES"]
-
-MODEL_CHOICES = ("auto", "thin", "dh", "pb")
 
 
 def _conditions(channel, electrolyte, wall):
@@ -45,6 +42,20 @@ def _conditions(channel, electrolyte, wall):
         ion_names=tuple(i.name for i in electrolyte.ions),
         kappa=bc(1.0 / electrolyte.debye_length), wall_condition=wall.condition,
         wall_value=bc(wall.value), stern_conductance=bc(wall.stern_conductance))
+
+
+def _models(channel, cond, model, tol):
+    """The model of every point (the ``auto`` choice where asked) and, for
+    ``auto``, the a-priori error estimates of the closed-form models."""
+    if model != "auto":
+        return np.full(cond.shape, model), None
+    half = np.broadcast_to(channel.half_size, cond.shape)
+    factor = np.broadcast_to(channel.perimeter * channel.half_size / channel.area, cond.shape)
+    b = cond.flat(half)
+    geometry = channel.kind if channel.kind in ("slit", "tube") else "section"
+    chosen, est = auto_choice(b, geometry, factor.reshape(-1), tol)
+    return (chosen.reshape(cond.shape),
+            {k: np.broadcast_to(v, (b.B,)).reshape(cond.shape) for k, v in est.items()})
 
 
 def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None):
@@ -125,7 +136,8 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None):
         check_range("zeta", cond.wall_value, -PB_PHI_MAX * cond.thermal_voltage.min() / zmax,
                     PB_PHI_MAX * cond.thermal_voltage.min() / zmax, unit="V",
                     hint=f"|z e zeta/kT| must stay below {PB_PHI_MAX:g}")
-    out = channel._kernel(cond, model, {"tol": tol, "accuracy": accuracy})
+    models, estimates = _models(channel, cond, model, tol)
+    out = channel._kernel(cond, models, {"accuracy": accuracy, "model_errors": estimates})
     if cond.wall_condition == "charge":
         phi = np.abs(out["wall_potential"]) / cond.thermal_voltage * zmax
         over = (phi > PB_PHI_MAX) & (np.asarray(out["model"]) == "pb")

@@ -9,13 +9,13 @@ import math
 import numpy as np
 from scipy import constants
 
+from ._constants import F, R, thermal_voltage
 from ._validate import broadcast_named, check_range
 
-__all__ = ["Wall", "ZETA_MAX", "grahame_charge", "grahame_potential", "flat_layer_integrals",
+__all__ = ["Wall", "WallCondition", "ConstantPotential", "ConstantCharge", "WALL_CONDITIONS",
+           "isolated_wall_potential", "isolated_wall_charge", "ZETA_MAX", "grahame_charge", "grahame_potential", "flat_layer_integrals",
            "diffuse_layer_conductance", "bikerman_conductance"]
 
-F = constants.physical_constants["Faraday constant"][0]
-R = constants.R
 
 #: Largest |zeta| accepted [V]; the solver range in scaled units is checked in ``solve``.
 ZETA_MAX = 0.6
@@ -78,6 +78,12 @@ class Wall:
         return self._cond
 
     @property
+    def boundary(self):
+        """The boundary condition object every model and shape uses
+        (:class:`ConstantPotential` or :class:`ConstantCharge`)."""
+        return WALL_CONDITIONS[self._cond]
+
+    @property
     def value(self):
         """The imposed zeta [V] or charge density [C/m²]."""
         return self._value
@@ -109,8 +115,89 @@ class Wall:
         return f"Wall({name}={self._value!r}, stern_conductance={self._stern!r})"
 
 
-def _thermal_voltage(T):
-    return constants.k * np.asarray(T) / constants.e
+# --------------------------------------------------------------------------
+# wall conditions: one object per kind, used by every model and every shape
+# --------------------------------------------------------------------------
+class WallCondition:
+    """How the wall fixes the double layer: the contract every kernel uses.
+
+    A condition turns the imposed value into scaled units and tells the
+    solvers what the wall does at scaled potential phi_w = e zeta / kT:
+    a Dirichlet condition (``dirichlet = True``: the potential is imposed),
+    or a scaled charge s(phi_w) = sigma L e/(eps kT) with its slope, which
+    the Newton iterations of the 1D and 2D Poisson–Boltzmann solvers carry
+    as a (possibly nonlinear) boundary term. A charge-regulating wall is one
+    more subclass with a charge that depends on phi_w (``nonlinear = True``).
+
+    Attributes
+    ----------
+    name : str
+        ``"potential"`` or ``"charge"`` (the value of ``Wall.condition``).
+    parameter, unit : str
+        Name and unit of the imposed value, for messages.
+    dirichlet : bool
+        The wall potential is imposed.
+    nonlinear : bool
+        The scaled charge depends on the wall potential.
+    """
+
+    name = "abstract"
+    parameter = ""
+    unit = ""
+    dirichlet = False
+    nonlinear = False
+
+    def scale(self, value, thermal_voltage, permittivity, length):  # pragma: no cover
+        """The imposed value in scaled units at reference ``length`` [m]."""
+        raise NotImplementedError
+
+    def charge(self, scaled_value, phi_w):
+        """Scaled wall charge s = sigma L e/(eps kT) at scaled wall potential ``phi_w``."""
+        raise NotImplementedError
+
+    def charge_slope(self, scaled_value, phi_w):
+        """ds/dphi_w (zero for a fixed charge)."""
+        return np.zeros(np.shape(phi_w))
+
+    def charge_energy(self, scaled_value, phi_w):
+        """int_0^phi_w s dphi, the wall's term of the convex energy Newton descends."""
+        raise NotImplementedError
+
+    def __repr__(self):
+        return f"{type(self).__name__}()"
+
+
+class ConstantPotential(WallCondition):
+    """A wall held at a fixed (zeta) potential: a Dirichlet condition."""
+
+    name = "potential"
+    parameter = "zeta"
+    unit = "V"
+    dirichlet = True
+
+    def scale(self, value, thermal_voltage, permittivity, length):
+        return value / thermal_voltage
+
+
+class ConstantCharge(WallCondition):
+    """A wall with a fixed surface charge: a Neumann condition, -dphi/dn = s."""
+
+    name = "charge"
+    parameter = "charge_density"
+    unit = "C/m^2"
+
+    def scale(self, value, thermal_voltage, permittivity, length):
+        return value * length / (permittivity * thermal_voltage)
+
+    def charge(self, scaled_value, phi_w):
+        return np.broadcast_to(scaled_value, np.shape(phi_w))
+
+    def charge_energy(self, scaled_value, phi_w):
+        return scaled_value * phi_w
+
+
+#: The wall conditions by name (the values of ``Wall.condition``).
+WALL_CONDITIONS = {c.name: c() for c in (ConstantPotential, ConstantCharge)}
 
 
 def _per_ion(electrolyte, arr, ndim):
@@ -198,7 +285,7 @@ def grahame_charge(electrolyte, zeta):
     """
     zeta = check_range("zeta", zeta, -ZETA_MAX, ZETA_MAX, unit="V")
     z, c, T, eps = _bulk(electrolyte, zeta.ndim)
-    phi = zeta / _thermal_voltage(T)
+    phi = zeta / thermal_voltage(T)
     root = _osmotic_root(z, c, phi)
     return np.sign(zeta) * np.sqrt(2 * eps * constants.k * T * constants.N_A) * root
 
@@ -242,7 +329,7 @@ def grahame_potential(electrolyte, charge_density):
     target = np.broadcast_to(np.abs(sigma) / np.sqrt(2 * eps * constants.k * T * constants.N_A),
                              shape)
     sgn = np.broadcast_to(np.sign(sigma), shape)
-    return osmotic_root_inverse(z, c, target, sgn) * _thermal_voltage(T)
+    return osmotic_root_inverse(z, c, target, sgn) * thermal_voltage(T)
 
 
 def osmotic_root_inverse(z, c, target, sign):
@@ -265,6 +352,28 @@ def osmotic_root_inverse(z, c, target, sign):
         hi = np.where(above, mid, hi)
         lo = np.where(above, lo, mid)
     return sgn * np.sqrt(lo) * np.sqrt(hi)
+
+
+def isolated_wall_charge(z, weights, phi_w):
+    """Scaled Grahame charge sigma / (eps kappa kT/e) of an isolated flat wall
+    at scaled potential ``phi_w``: sgn(phi_w) sqrt(2 sum_i w_i (e^{-z_i phi_w} - 1)).
+
+    ``z`` (k, 1...) aligned with ``weights`` w_i = c_i / sum_j z_j^2 c_j (k, ...).
+    The array-level core of :func:`grahame_charge` in scaled units.
+    """
+    return np.sign(phi_w) * np.sqrt(2.0) * _osmotic_root(z, weights, phi_w)
+
+
+def isolated_wall_potential(z, weights, K, sigma_s):
+    """Scaled potential of an isolated flat wall (Grahame, inverted) for the
+    scaled charge ``sigma_s`` = sigma L e/(eps kT) at K = kappa L.
+
+    Solves (sigma_s/K)^2 = 2 sum_j w_j (exp(-z_j phi) - 1) with
+    :func:`osmotic_root_inverse`; ``z`` (k,), ``weights`` (k, B).
+    """
+    target = np.abs(sigma_s / K) / np.sqrt(2.0)
+    return osmotic_root_inverse(np.asarray(z, dtype=float)[:, None], weights, target,
+                                np.sign(sigma_s))
 
 
 def flat_layer_integrals(z, c, phi_w):
@@ -311,7 +420,7 @@ def _flat_wall_integrals(electrolyte, zeta):
     zeta = np.asarray(zeta, dtype=float)
     z, c, T, eps = _bulk(electrolyte, zeta.ndim)
     kappa = 1.0 / electrolyte.debye_length
-    I_mig, I_conv = flat_layer_integrals(z, c, zeta / _thermal_voltage(T))
+    I_mig, I_conv = flat_layer_integrals(z, c, zeta / thermal_voltage(T))
     return I_mig / kappa, I_conv / kappa, kappa
 
 
@@ -368,7 +477,7 @@ def diffuse_layer_conductance(electrolyte, zeta):
     D = _per_ion(electrolyte, electrolyte.diffusivities, zeta.ndim)
     eta = electrolyte.viscosity
     mig = z**2 * F**2 * D * c / (R * T) * I_mig
-    conv = z * F * c * (eps / eta) * _thermal_voltage(T) * I_conv
+    conv = z * F * c * (eps / eta) * thermal_voltage(T) * I_conv
     return mig, conv
 
 
@@ -421,7 +530,7 @@ def bikerman_conductance(electrolyte, zeta):
     D = electrolyte.diffusivities
     eps, eta = electrolyte.permittivity, electrolyte.viscosity
     kappa = 1.0 / electrolyte.debye_length
-    vt = _thermal_voltage(T)
+    vt = thermal_voltage(T)
     total = 0.0
     for k, sign in ((0, -1.0) if zs[0] > 0 else (1, -1.0), (1, 1.0) if zs[0] > 0 else (0, 1.0)):
         m = 2 * eps / (3 * eta * D[k]) * vt**2

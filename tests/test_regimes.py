@@ -5,7 +5,8 @@ from numpy.testing import assert_allclose
 from scipy import constants
 
 import ekexplore as ek
-from ekexplore.regimes import estimated_model_errors, regime_verdict
+from ekexplore.models import estimated_model_errors
+from ekexplore.regimes import regime_verdict
 
 VT25 = constants.k * 298.15 / constants.e
 K_GRID = np.logspace(-3, 5, 33)[:, None]

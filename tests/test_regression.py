@@ -30,10 +30,56 @@ import ekexplore as ek
 
 DATA = os.path.join(os.path.dirname(__file__), "data", "regression_v1.npz")
 RTOL = 1e-12
+#: Error estimates are differences of nearly equal values on two grids (or
+#: levels), so a round-off of 1e-16 in those values shows in them as about
+#: 1e-16 absolute, however small the estimate: they are compared to 1e-14
+#: absolute as well (a change far below any accuracy asked for). The 2D
+#: Newton iteration stops at 1e-12 of the potential's spread, so there a
+#: different start (the Donnan offset, found by one shared bisection since
+#: the model layer) moves the levels by up to that: 1e-12 absolute.
+ERROR_ATOL = 1e-14
+ERROR_ATOL_SECTIONS = 1e-12
 
-#: Changes of the recorded numbers that are intended, with their reason:
-#: (field, predicate on the case label) -> why. Empty while nothing changed.
-EXPLAINED: dict = {}
+SECTIONS = ("Rectangle", "Trapezoid", "IsotropicEtch", "Ellipse", "Polygon")
+
+
+def _is_section(label):
+    return label.split("|")[0] in SECTIONS
+
+
+def _bulk_advection(result):
+    """Per-ion current of the bulk carried at the mean electro-osmotic
+    velocity, z_i F c_i L12 [S/m], shape (n_ions, *shape)."""
+    from scipy import constants
+    F = constants.physical_constants["Faraday constant"][0]
+    return result._cond.z_b() * F * result._cond.concentrations * result.electroosmotic
+
+
+def _sections_ion_current(new, old, result):
+    # The 2D kernel counted each ion's convection as <c_i/c_i,b d>, which
+    # includes the bulk advected at the electro-osmotic velocity, z_i F c_i
+    # L12; the slit and tube kernels (and the counter-ion share's definition)
+    # count only the excess over the bulk, <(c_i/c_i,b - 1) d>. Since the one
+    # model layer, sections count the excess too: the change must be exactly
+    # that bulk term.
+    bulk = _bulk_advection(result)
+    np.testing.assert_allclose(new + bulk, old, rtol=RTOL, atol=RTOL * np.max(np.abs(bulk)))
+
+
+def _sections_convection(new, old, result):
+    # The old sum over ions included the bulk terms above, which cancel
+    # (sum_i z_i c_i = 0) but leave a round-off of about 1e-16 of their size;
+    # compare to 1e-12 of that size.
+    bulk = _bulk_advection(result)
+    np.testing.assert_allclose(new, old, rtol=RTOL, atol=RTOL * np.max(np.abs(bulk)))
+
+
+#: Changes of the recorded numbers that are intended: (field, predicate on the
+#: case label) -> the check that replaces plain agreement, with its reason.
+EXPLAINED: dict = {
+    ("ion_current", _is_section): _sections_ion_current,
+    ("L22_convection", _is_section): _sections_convection,
+}
 
 # Ions with fixed diffusivities [m^2/s] (values of the order of K+, Cl-, Ca2+,
 # SO4 2-, Na+ at 25 C; only their being fixed matters here).
@@ -187,15 +233,21 @@ def test_record_has_every_case(stored):
 @pytest.mark.parametrize("i", range(len(CASES)), ids=[label for label, _ in CASES])
 def test_numbers_unchanged(stored, i):
     label, run = CASES[i]
-    rec = _record(_run(run))
+    result = _run(run)
+    rec = _record(result)
     np.testing.assert_array_equal(rec["model"], stored[f"{i}/model"], err_msg=label)
     for f in FIELDS:
-        why = [reason for (field, applies), reason in EXPLAINED.items()
-               if field == f and applies(label)]
-        if why:
-            continue
         ref = stored[f"{i}/{f}"]
-        np.testing.assert_allclose(rec[f], ref, rtol=RTOL, atol=0.0, err_msg=f"{label}: {f}")
+        checks = [check for (field, applies), check in EXPLAINED.items()
+                  if field == f and applies(label)]
+        if checks:
+            for check in checks:
+                check(rec[f], ref, result)
+            continue
+        atol = 0.0
+        if f == "error_estimate":
+            atol = ERROR_ATOL_SECTIONS if _is_section(label) else ERROR_ATOL
+        np.testing.assert_allclose(rec[f], ref, rtol=RTOL, atol=atol, err_msg=f"{label}: {f}")
 
 
 if __name__ == "__main__":

@@ -5,8 +5,8 @@ from numpy.testing import assert_allclose
 
 import ekexplore as ek
 from ekexplore.sections import Ellipse, IsotropicEtch, Polygon, Rectangle, Trapezoid
-from ekexplore.sections._meshes import _cached, build_mesh
-from ekexplore.sections._kernel import scaled_solution
+from ekexplore.sections.meshes import _cached, build_mesh
+from ekexplore.sections.solutions import scaled_solution
 from ekexplore.transport import _conditions
 
 KCL = ek.Electrolyte.salt("KCl", 1.0)          # Debye length 9.6 nm
@@ -222,7 +222,7 @@ def test_rectangle_series_equals_the_double_sine_series():
     #   <zeta - psi>/zeta = kappa^2 sum_{m,n odd} 64 / (pi^4 m^2 n^2 (a_m^2 + b_n^2 + kappa^2)),
     #   a_m = m pi / W, b_n = n pi / H. Summed here directly to m, n < 4000; the
     # truncation tail is below 1e-4 relative. The package sums one index in closed form.
-    from ekexplore.sections._series import rectangle_dh
+    from ekexplore.sections.series import rectangle_dh
     W, H, kappa = 300e-9, 100e-9, 1.0 / 9.6e-9
     m = np.arange(1, 4000, 2, dtype=float)[:, None]
     n = np.arange(1, 4000, 2, dtype=float)[None, :]

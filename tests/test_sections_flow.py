@@ -5,8 +5,8 @@ from numpy.testing import assert_allclose
 
 import ekexplore as ek
 from ekexplore.sections import Ellipse, IsotropicEtch, Polygon, Rectangle, Trapezoid
-from ekexplore.sections._kernel import flow_solution
-from ekexplore.sections._meshes import build_mesh
+from ekexplore.sections.solutions import flow_solution
+from ekexplore.sections.meshes import build_mesh
 from ekexplore.sections.shapes import KOH_SIDEWALL_ANGLE, _flow_mean_2d
 
 ETA = 1e-3

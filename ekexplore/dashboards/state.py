@@ -14,6 +14,7 @@ import numpy as np
 import traitlets
 
 import ekexplore as ek
+from ekexplore.models import MODEL_CHOICES
 
 try:  # the 2D sections register themselves in ek.channels.SHAPES on import
     import ekexplore.sections  # noqa: F401
@@ -85,7 +86,7 @@ class State(traitlets.HasTraits):
     voltage = traitlets.Float(50.0)                 # applied voltage [V]
     pressure_drop = traitlets.Float(1e3)            # applied pressure drop [Pa]
 
-    MODELS = ("auto", "thin", "dh", "pb")
+    MODELS = MODEL_CHOICES
 
     def __init__(self, **kwargs):
         params = kwargs.pop("shape_params", None)

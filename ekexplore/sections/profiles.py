@@ -4,7 +4,12 @@ from __future__ import annotations
 import numpy as np
 from scipy.spatial import cKDTree
 
-from .._state import F
+from .._constants import F
+from .extrapolation import resolution
+from .meshes import build_mesh
+from .solutions import flow_solution, gouy_scale, scaled_solution
+from ..doublelayer import gouy_chapman_potential
+from ..wall import isolated_wall_potential
 from ..profiles import FieldTotals
 
 __all__ = ["SectionProfiles", "UNITS", "section_profiles_factory"]
@@ -242,43 +247,35 @@ def _wall_distance(P, wall_edges):
 
 def section_profiles_factory(channel, cond, models, accuracy):
     """The ``profiles`` callable of a section kernel result."""
-    from ._kernel import _flat_conditions, _gouy, resolution, scaled_solution, flow_solution
-    from ._meshes import build_mesh
 
     def make(pressure_gradient=1.0, field=1.0):
-        b = _flat_conditions(cond)
+        b = cond.flat()
         geo = channel._geometry_arrays(cond.shape)
         mods = np.broadcast_to(np.asarray(models), cond.shape).reshape(-1)
         n = 4 * resolution(accuracy)       # twice the kernel's finest level: smooth images
-        result = np.empty(b["B"], dtype=object)
-        z = b["z"]
-        for k in range(b["B"]):
+        result = np.empty(b.B, dtype=object)
+        z = b.z
+        for k in range(b.B):
             kind, dims, L = geo["spec"][k]
-            eps, eta, VT, kappa = b["eps"][k], b["eta"][k], b["VT"][k], b["kappa"][k]
-            c, w, lam_i = b["c"][:, k], b["w"][:, k], b["lam"][:, k]
+            bk = b.take(np.array([k])).with_length(np.array([L]))
+            eps, eta, VT, kappa = bk.eps[0], bk.eta[0], bk.VT[0], bk.kappa[0]
+            c, w, lam_i = bk.c[:, 0], bk.charge_weights[:, 0], bk.molar_conductivity[:, 0]
             lam = 1.0 / (kappa * L)
             name = str(mods[k])
-            potential_wall = cond.wall_condition == "potential"
-            value = b["value"][k] / VT if potential_wall else b["value"][k] * L / (eps * VT)
+            value = float(bk.scaled_value[0])
             if name == "thin":
                 mesh = build_mesh(kind, dims, n, lam)
                 u = flow_solution(mesh)["u"]
-                if potential_wall:
-                    phi_w = value
-                else:
-                    from ..kernels1d import wall_potential_isolated
-                    phi_w = float(wall_potential_isolated(
-                        z, (c / np.sum(z**2 * c))[:, None], np.array([kappa * L]),
-                        np.array([value]))[0])
+                phi_w = value if bk.wall.dirichlet else float(isolated_wall_potential(
+                    z, bk.weights, bk.K, bk.scaled_value)[0])
                 dist = _wall_distance(mesh.points, mesh.wall_edges)
                 zc = np.max(np.abs(z))
-                phi = 4.0 / zc * np.arctanh(np.tanh(zc * phi_w / 4.0) * np.exp(-dist / lam))
+                phi = gouy_chapman_potential(zc, phi_w, np.exp(-dist / lam))
                 ueo_s = np.full_like(phi, -phi_w)
             else:
-                gouy = _gouy(lam, z, value) if (name == "pb" and potential_wall) else None
+                gouy = gouy_scale(lam, z, value) if (name == "pb" and bk.wall.dirichlet) else None
                 mesh = build_mesh(kind, dims, n, lam, gouy)
-                r = scaled_solution(mesh, (kappa * L) ** 2, w, z,
-                                    "potential" if potential_wall else "charge", value, name)
+                r = scaled_solution(mesh, (kappa * L) ** 2, w, z, bk.wall.name, value, name)
                 phi, u = r["phi"], r["u"]
                 ueo_s = r["d"]
             zc = z[:, None]

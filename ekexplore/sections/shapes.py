@@ -1,7 +1,7 @@
 """The 2D cross-sections: rectangle, trapezoid, isotropic etch, ellipse, polygon.
 
 Each shape knows its exact geometry and how to mesh itself; the transport
-comes from the shared 2D kernel (``ekexplore.sections._kernel``).
+comes from the shared 2D kernel (``ekexplore.sections.kernel``).
 Coordinates: x across the width (centred), y up from the floor.
 """
 from __future__ import annotations
@@ -13,9 +13,9 @@ from scipy import special
 
 from ..channels import Channel, ParameterInfo, SIZE_MAX, SIZE_MIN, register_shape
 from .._validate import as_float_array, check_range
-from ._kernel import section_kernel
-from ._meshes import build_mesh
-from ._series import rectangle_dh, rectangle_flow_mean
+from .kernel import section_kernel
+from .meshes import build_mesh
+from .series import rectangle_dh, rectangle_flow_mean
 
 __all__ = ["Rectangle", "Trapezoid", "IsotropicEtch", "Ellipse", "Polygon",
            "KOH_SIDEWALL_ANGLE"]
@@ -41,7 +41,7 @@ def _width(name, value):
 @lru_cache(maxsize=256)
 def _flow_mean_2d(kind, dims):
     """<u>/(G/eta) in units of L^2 from two fine meshes (Richardson), for f Re."""
-    from ._kernel import flow_solution
+    from .solutions import flow_solution
     c = flow_solution(build_mesh(kind, dims, 96))["u_mean"]
     f = flow_solution(build_mesh(kind, dims, 192))["u_mean"]
     return (4.0 * f - c) / 3.0
@@ -113,13 +113,13 @@ class _Section(Channel):
         form exists, else from the 2D flow solve (Richardson, about 1e-6)."""
         return self.hydraulic_diameter**2 / (2.0 * self._flow_mean())
 
-    def _kernel(self, conditions, model, options):
-        return section_kernel(self, conditions, model, options)
+    def _kernel(self, conditions, models, options):
+        return section_kernel(self, conditions, models, options)
 
     def mesh(self, accuracy=None, debye_length=None):
         """The fine-level mesh used at ``accuracy`` (for plots and checks):
         (points [m], triangles). Only for a scalar shape."""
-        from ._kernel import DEFAULT_ACCURACY, resolution
+        from .extrapolation import DEFAULT_ACCURACY, resolution
         if self.shape != ():
             raise ValueError("mesh: only for a shape with scalar dimensions")
         kind, dims, L = self._point_geometry(*(v[0] for v in self._values(())))

@@ -1,7 +1,7 @@
 """The 2D problems on a section mesh, in scaled units.
 
 Lengths are scaled by the reference length L, the potential by kT/e
-(phi = e psi / kT). On a :class:`~ekexplore.sections._mesh.Mesh` with
+(phi = e psi / kT). On a :class:`~ekexplore.sections.assembly.Mesh` with
 stiffness K, lumped nodal areas m and lumped wall lengths b:
 
 * flow:      K u = m            (u = 0 on the wall), so u_p = (G L^2/eta) u;
@@ -20,7 +20,8 @@ from __future__ import annotations
 import numpy as np
 import scipy.sparse as sp
 
-from ._mesh import factorize
+from ..doublelayer import donnan_potential, gouy_chapman_potential
+from .assembly import factorize
 
 __all__ = ["flow_profile", "harmonic_extension", "solve_potential"]
 
@@ -67,22 +68,6 @@ def _energy(K, m, kl2, w, z, phi, sb):
     for wi, zi in zip(w, z):
         pot += (wi / zi) * np.exp(-zi * phi)
     return 0.5 * _dot(phi, K @ phi) + kl2 * _dot(m, pot) - _dot(sb, phi)
-
-
-def _donnan(w, z, target):
-    """Uniform potential with g(phi) = target (g decreases monotonically): bisection."""
-    lo, hi = -700.0 / np.max(np.abs(z)), 700.0 / np.max(np.abs(z))
-    for _ in range(200):
-        mid = 0.5 * (lo + hi)
-        with np.errstate(over="ignore"):
-            val = float(np.sum(w * np.exp(-z * mid)))
-        if val > target:
-            lo = mid
-        else:
-            hi = mid
-        if hi - lo < 1e-14 * max(1.0, abs(mid)):
-            break
-    return 0.5 * (lo + hi)
 
 
 def _pcg(A, b, precond, rtol=1e-13, maxiter=30):
@@ -152,7 +137,10 @@ def solve_potential(mesh, kl2, w, z, condition, value, model, guess=None):
         A = K
         sb = value * mesh.b
         total = value * mesh.b.sum() / (kl2 * m.sum())
-        offset = total if model == "dh" else _donnan(w, z, -total)
+        # w here are the charge weights z_i c_i / sum z_j^2 c_j: those of
+        # donnan_potential are c_i / sum z_j^2 c_j
+        offset = total if model == "dh" else float(
+            donnan_potential(z, (w / z)[:, None], np.array([-total]))[0])
     dev = np.zeros(n)
     if model == "dh":
         # linear: (K + kl2 M) dev = -kl2 m offset + s b, zero on a potential wall
@@ -172,7 +160,7 @@ def solve_potential(mesh, kl2, w, z, condition, value, model, guess=None):
         if condition == "potential" and offset != 0.0:
             # Gouy-Chapman shaped start: keeps the Newton path short at high |zeta|
             f = np.clip(1.0 + dev / offset, 0.0, 1.0)
-            dev = 4.0 / zm * np.arctanh(np.tanh(zm * offset / 4.0) * f) - offset
+            dev = gouy_chapman_potential(zm, offset, f) - offset
         else:
             dev = np.clip(dev, -30.0 / zm, 30.0 / zm)
     mI = m[idx]

@@ -2,7 +2,7 @@
 
 Each builder takes the scaled dimensions, the resolution ``n`` (cells
 across the narrow direction) and the grading scales, and returns a
-:class:`~ekexplore.sections._mesh.Mesh`. ``lam`` is the scaled Debye length
+:class:`~ekexplore.sections.assembly.Mesh`. ``lam`` is the scaled Debye length
 (None: flow only), ``gouy`` the scaled inner (Gouy-Chapman) length of a
 strongly charged wall (None when the wall potential is small).
 """
@@ -13,7 +13,9 @@ from collections import OrderedDict, namedtuple
 
 import numpy as np
 
-from ._mesh import Mesh, fan_block, graded, merge_blocks, monitor_mass, polar_block, tensor_block
+from .assembly import Mesh
+from .blocks import fan_block, merge_blocks, polar_block, tensor_block
+from .grading import graded, monitor_mass
 
 __all__ = ["build_mesh", "wall_scales"]
 
