@@ -24,7 +24,8 @@ __all__ = ["solve", "Result", "MODEL_CHOICES"]
 
 
 def _conditions(channel, electrolyte, wall):
-    wall_name = "zeta" if wall.condition == "potential" else "charge_density"
+    wall_name = {"potential": "zeta", "charge": "charge_density"}.get(wall.condition,
+                                                                       "surface and pH")
     shape = broadcast_named({**channel._parameter_shapes(),
                              "electrolyte (concentration, temperature)": electrolyte.shape,
                              f"wall ({wall_name}, stern_conductance)": wall.shape})
@@ -41,7 +42,8 @@ def _conditions(channel, electrolyte, wall):
         diffusivities=bcn(electrolyte.diffusivities),
         ion_names=tuple(i.name for i in electrolyte.ions),
         kappa=bc(1.0 / electrolyte.debye_length), wall_condition=wall.condition,
-        wall_value=bc(wall.value), stern_conductance=bc(wall.stern_conductance))
+        wall_value=bcn(wall.value) if wall.condition == "regulated" else bc(wall.value),
+        stern_conductance=bc(wall.stern_conductance))
 
 
 def _models(channel, cond, model, tol):
@@ -138,7 +140,7 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None):
                     hint=f"|z e zeta/kT| must stay below {PB_PHI_MAX:g}")
     models, estimates = _models(channel, cond, model, tol)
     out = channel._kernel(cond, models, {"accuracy": accuracy, "model_errors": estimates})
-    if cond.wall_condition == "charge":
+    if cond.wall_condition != "potential":
         phi = np.abs(out["wall_potential"]) / cond.thermal_voltage * zmax
         over = (phi > PB_PHI_MAX) & (np.asarray(out["model"]) == "pb")
         if np.any(over):
@@ -154,6 +156,13 @@ class Result:
 
     Every attribute is an ndarray of the broadcast input shape (0-d for
     scalar inputs) in SI units, per unit cross-section area unless said.
+
+    For a wall whose charge follows the chemistry (``Wall(surface=..., pH=...)``)
+    ``wall_potential`` is the solved zeta, ``wall_charge`` the charge of the
+    sites, ``surface_potential`` the potential of the charged plane [V] and
+    ``charged_fraction`` the fraction of sites that carry a charge [-] (NaN
+    for other walls); all three follow from the solved zeta, so their
+    relative error is of the order of ``error_estimate``.
     """
 
     def __init__(self, channel, electrolyte, wall, conditions, out, model, tol):
@@ -188,6 +197,15 @@ class Result:
         self.wall_potential = np.asarray(out["wall_potential"])
         self.wall_charge = np.asarray(out.get("wall_charge", np.full(shape, np.nan)))
         self.bulk_conductivity = conditions.bulk_conductivity()
+        # a charge-regulating wall: the state of its sites at the solved zeta
+        self.surface_potential = np.full(shape, np.nan)
+        self.charged_fraction = np.full(shape, np.nan)
+        if conditions.wall.nonlinear:
+            b = conditions.flat(np.ones(shape))
+            phi0, frac = conditions.wall.surface_state(
+                b.scaled_value, self.wall_potential.reshape(-1) / b.VT)
+            self.surface_potential = (phi0 * b.VT).reshape(shape)
+            self.charged_fraction = np.asarray(frac).reshape(shape)
 
     # -- the four coefficients -------------------------------------------------
     @property

@@ -609,3 +609,108 @@ def test_wall_charge_without_stern_drop_is_the_site_charge():
     first_order = np.abs(Surface.silica().site_charge_derivative(zeta, 8.0) * sites / 1e3)
     assert np.max(np.abs(sig / sites - 1)) < 0.02
     assert_allclose(np.abs(sig - sites), first_order, rtol=0.05)
+
+
+# ---------------------------------------------------------------------------
+# Wall(surface=...): every model and every shape
+# ---------------------------------------------------------------------------
+@pytest.mark.parametrize("m", [0, 1])
+def test_solve_with_a_regulated_wall_against_independent_solutions(m):
+    # silica (Behrens & Grier 2001 parameters) in KCl, pH 5 and 8.5, overlapping
+    # to thin layers: pb against solve_bvp, thin against the isolated wall
+    # (brentq), dh against the linear layer (brentq)
+    conc = np.array([0.01, 1.0, 100.0])
+    e = ek.Electrolyte.salt("KCl", conc)
+    half = 15e-9
+    shape = ek.Slit(2 * half) if m == 0 else ek.Tube(2 * half)
+    for pH in (5.0, 8.5):
+        wall = ek.Wall(surface=Surface.silica(), pH=pH)
+        pb = ek.solve(shape, e, wall, model="pb")
+        for j, c in enumerate(conc):
+            ek_c = ek.Electrolyte.salt("KCl", c)
+            zr, sr = bvp_regulated(m, half, ek_c, silanol_charge, 2.9, pH)
+            assert_allclose([pb.wall_potential[j], pb.wall_charge[j]], [zr, sr], rtol=1e-6)
+            zt, st = bg_silica_scalar(c, pH)
+            thin = ek.solve(shape, ek_c, wall, model="thin")
+            assert_allclose([thin.wall_potential, thin.wall_charge], [zt, st], rtol=1e-9)
+            zd, sd = dh_silica_scalar(m, half, c, pH)
+            dh = ek.solve(shape, ek_c, wall, model="dh")
+            assert_allclose([dh.wall_potential, dh.wall_charge], [zd, sd], rtol=1e-9)
+        # the sites' state at the solved zeta
+        assert_allclose(pb.charged_fraction, -pb.wall_charge / (E * 8e18), rtol=1e-9)
+        assert_allclose(pb.surface_potential, pb.wall_potential + pb.wall_charge / 2.9,
+                        rtol=1e-9)
+        # off-diagonals computed independently, reciprocal to the solver's accuracy
+        assert np.all(pb.reciprocity_residual < 1e-6)
+        # negative zeta: both off-diagonals positive
+        assert np.all(pb.electroosmotic > 0) and np.all(pb.streaming > 0)
+
+
+def test_regulated_wall_in_a_fixed_potential_kernel_gives_the_same_transport():
+    # the regulated double layer is the constant-potential one at its zeta:
+    # every coefficient must agree with a constant-potential solve at that zeta
+    e = ek.Electrolyte.salt("KCl", np.array([0.05, 3.0]))
+    for shape in (ek.Slit(30e-9), ek.Tube(30e-9)):
+        for model in ("thin", "dh", "pb"):
+            reg = ek.solve(shape, e, ek.Wall(surface=Surface.alumina(0.8), pH=9.3), model=model)
+            fix = ek.solve(shape, e, ek.Wall(zeta=reg.wall_potential), model=model)
+            # closed forms to round-off; pb to its accuracy (its two grids see the
+            # wall potential float with the charge, measured 5e-8)
+            assert_allclose(reg.matrix, fix.matrix, rtol=1e-9 if model != "pb" else 1e-6,
+                            atol=0)
+            assert_allclose(reg.wall_charge, fix.wall_charge, rtol=2e-6)
+
+
+def test_auto_with_a_regulated_wall_meets_its_tolerance():
+    # auto picks thin/dh/pb per point; its estimate must not undercut the
+    # error against pb (the model table's contract), for a regulated wall too
+    conc = np.logspace(-2, 2, 9)
+    e = ek.Electrolyte.salt("KCl", conc)
+    wall = ek.Wall(surface=Surface.silica(), pH=np.array([[6.0], [8.0]]))
+    for gap in (20e-9, 2e-6):
+        auto = ek.solve(ek.Slit(gap), e, wall, model="auto", tol=0.01)
+        pb = ek.solve(ek.Slit(gap), e, wall, model="pb")
+        err = np.abs(auto.electroosmotic / pb.electroosmotic - 1)
+        assert np.all(err <= np.maximum(auto.error_estimate, 1e-6) * 1.0 + 1e-9)
+
+
+def test_circle_section_with_regulated_wall_is_the_tube():
+    # the 2D mesh solver with the nonlinear wall condition on a circular
+    # section against the 1D tube solver (pb and dh), at the 2D accuracy 1e-3
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    wall = ek.Wall(surface=Surface.silica(), pH=7.5)
+    for model in ("dh", "pb"):
+        tube = ek.solve(ek.Tube(30e-9), e, wall, model=model)
+        circ = ek.solve(ek.Ellipse(30e-9, 30e-9), e, wall, model=model)
+        assert_allclose(circ.wall_potential, tube.wall_potential, rtol=2e-3)
+        assert_allclose(circ.wall_charge, tube.wall_charge, rtol=2e-3)
+        assert_allclose(circ.electroosmotic, tube.electroosmotic, rtol=2e-3)
+        assert_allclose(circ.conductive, tube.conductive, rtol=2e-3)
+
+
+def test_section_with_fixed_charge_sites_is_the_constant_charge_section():
+    # sites far from their pK carry a fixed charge: the regulated 2D solve must
+    # match the constant-charge 2D solve (a separate branch of the solver)
+    gamma = 1e17
+    e = ek.Electrolyte.salt("KCl", 0.5)
+    shape = ek.Rectangle(width=60e-9, depth=30e-9)
+    reg = ek.solve(shape, e, ek.Wall(surface=Surface(Site(-10.0, gamma), 2.9), pH=9.0),
+                   model="pb")
+    fix = ek.solve(shape, e, ek.Wall(charge_density=-E * gamma), model="pb")
+    assert_allclose(reg.wall_charge, -E * gamma, rtol=1e-6)
+    assert_allclose(reg.matrix, fix.matrix, rtol=2e-3)
+    assert_allclose(reg.wall_potential, fix.wall_potential, rtol=2e-3)
+
+
+@pytest.mark.parametrize("make, words", [
+    (lambda: ek.Wall(surface=Surface.silica()), ["pH", "[0, 14]"]),
+    (lambda: ek.Wall(surface=Surface.silica(), pH=15.0), ["pH", "15", "[0, 14]"]),
+    (lambda: ek.Wall(zeta=-0.05, pH=7.0), ["pH", "surface"]),
+    (lambda: ek.Wall(surface="silica", pH=7.0), ["surface", "Surface"]),
+    (lambda: ek.Wall(zeta=-0.05, surface=Surface.silica(), pH=7.0), ["exactly one"]),
+])
+def test_regulated_wall_bad_input(make, words):
+    with pytest.raises(ValueError) as info:
+        make()
+    for w in words:
+        assert w in str(info.value), (w, str(info.value))
