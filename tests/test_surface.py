@@ -714,3 +714,37 @@ def test_regulated_wall_bad_input(make, words):
         make()
     for w in words:
         assert w in str(info.value), (w, str(info.value))
+
+
+# ---------------------------------------------------------------------------
+# silica nanochannel conductance: Stein, Kruithof & Dekker (2004)
+# ---------------------------------------------------------------------------
+def test_silica_slit_conductance_becomes_surface_governed():
+    # Stein, D., Kruithof, M. & Dekker, C. (2004), "Surface-charge-governed ion
+    # transport in nanofluidic channels", Phys. Rev. Lett. 93, 035901,
+    # doi:10.1103/PhysRevLett.93.035901: silica slits 50 um wide and 4.5 mm
+    # long, heights from 70 nm (abstract and methods); in the dilute limit the
+    # conductance no longer depends on the height (it is carried by the
+    # counter-ions of the wall charge), at high KCl it is the bulk value.
+    # Their other heights (1015 nm the largest) are from memory.
+    # Checked here for regulated silica walls (Behrens & Grier 2001
+    # parameters) at pH 5.6-8; where the model and the data part (no true
+    # plateau, and a lower level) is said in the README.
+    c = np.array([1e-3, 1e-2, 1e3])      # 1 uM, 10 uM, 1 M KCl
+    e = ek.Electrolyte.salt("KCl", c)
+    L = 4.5e-3
+    for pH in (5.6, 7.0, 8.0):
+        wall = ek.Wall(surface=Surface.silica(), pH=pH)
+        G = {}
+        for h in (70e-9, 1015e-9):
+            r = ek.solve(ek.Slit(h, width=50e-6), e, wall)
+            G[h] = r.conductances(L)["conductance"]
+            bulk = r.bulk_conductivity * 50e-6 * h / L
+            # 1 M: the bulk, within the diffuse-layer share (Dukhin number < 2 %)
+            assert_allclose(G[h][-1], bulk[-1], rtol=0.02)
+            # dilute (1 uM): far above the bulk (surface-governed)
+            assert G[h][0] > 3 * bulk[0]
+        ratio = G[70e-9] / G[1015e-9]
+        # bulk: the height ratio 0.069; dilute: within a factor 2.5 of height-independent
+        assert_allclose(ratio[-1], 70 / 1015, rtol=0.02)
+        assert np.all(ratio[:2] > 0.4)
