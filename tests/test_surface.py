@@ -745,6 +745,7 @@ def test_silica_slit_conductance_becomes_surface_governed():
             # dilute (1 uM): far above the bulk (surface-governed)
             assert G[h][0] > 3 * bulk[0]
         ratio = G[70e-9] / G[1015e-9]
-        # bulk: the height ratio 0.069; dilute: within a factor 2.5 of height-independent
+        # bulk: the height ratio 0.069; 1 uM: within a factor 2.5 of
+        # height-independent; 10 uM: still over 5 times the bulk ratio
         assert_allclose(ratio[-1], 70 / 1015, rtol=0.02)
-        assert np.all(ratio[:2] > 0.4)
+        assert ratio[0] > 0.4 and ratio[1] > 5 * 70 / 1015
