@@ -749,3 +749,18 @@ def test_silica_slit_conductance_becomes_surface_governed():
         # height-independent; 10 uM: still over 5 times the bulk ratio
         assert_allclose(ratio[-1], 70 / 1015, rtol=0.02)
         assert ratio[0] > 0.4 and ratio[1] > 5 * 70 / 1015
+
+
+def test_sweep_with_a_surface_matches_solve():
+    df = ek.sweep(grid={"gap": [30e-9, 300e-9], "concentration": [0.01, 10.0],
+                        "pH": [5.0, 9.0]}, surface=Surface.silica(), model="pb", length=1e-3)
+    assert not df["error"].notna().any()
+    for _, row in df.iterrows():
+        r = ek.solve(ek.Slit(row["gap"]), ek.Electrolyte.salt("KCl", row["concentration"]),
+                     ek.Wall(surface=Surface.silica(), pH=row["pH"]), model="pb")
+        assert_allclose([row["wall_potential"], row["wall_charge"], row["charged_fraction"],
+                         row["conductive"]],
+                        [r.wall_potential, r.wall_charge, r.charged_fraction, r.conductive],
+                        rtol=1e-12)
+    with pytest.raises(ValueError, match="pH"):
+        ek.sweep(grid={"gap": [30e-9]}, concentration=1.0, zeta=-0.05, surface=Surface.silica())
