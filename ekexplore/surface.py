@@ -773,9 +773,18 @@ class RegulatedCharge(WallCondition):
         return surf, pH, scaled_value[1], scaled_value[2]
 
     def _terms(self, scaled_value, phi_w):
+        # solvers ask for the charge and then its slope at the same point: keep
+        # the last evaluation (the inner solve for the charged plane is the cost)
+        key = getattr(self, "_last", None)
+        phi_w = np.asarray(phi_w, dtype=float)
+        if (key is not None and key[0] is scaled_value and key[1].shape == phi_w.shape
+                and np.array_equal(key[1], phi_w)):
+            return key[2]
         surf, pH, c_s, to_scaled = self._split(scaled_value)
         sig, dsig, free, phi0, frac = surf._diffuse_terms(phi_w, pH, c_s)
-        return sig * to_scaled, dsig * to_scaled, free * to_scaled, phi0, frac
+        out = (sig * to_scaled, dsig * to_scaled, free * to_scaled, phi0, frac)
+        self._last = (scaled_value, phi_w.copy(), out)
+        return out
 
     def charge(self, scaled_value, phi_w):
         return self._terms(scaled_value, phi_w)[0]

@@ -237,8 +237,9 @@ def _evaluate(shape_name, salt, model, tol, length, cols, time_limit=None, stop_
         sub = {k: v[lo:hi] for k, v in cols.items()}
         budget = None if time_limit is None else time_limit * (hi - lo)
         try:
+            extra = () if surface is None else (surface,)
             res = _limited(lambda: _solve_rows(shape_name, salt, model, tol, length, sub,
-                                               surface), budget)
+                                               *extra), budget)
         except _Timeout:
             if hi - lo == 1:
                 error[lo] = (f"TimeoutError: the design ran longer than time_limit = "
