@@ -340,7 +340,8 @@ class _Server:
                 continue
             lines.append(line)
             if "read-only) at " in line:
-                self.base = line.split(" at ", 1)[1].strip().rstrip("/")
+                self.base, _, token = line.split(" at ", 1)[1].strip().partition("/?token=")
+                self.query = f"?token={token}"     # authenticates a page: base + path + query
         if self.base is None:
             raise RuntimeError("ekexplore serve printed no URL: " + "".join(lines))
         # a static asset: fetching a notebook URL would start a kernel
@@ -466,7 +467,7 @@ def b3(presses, shapes=("Slit", "Tube")):
     server = None
     try:
         server = _Server()
-        url = server.base + "/voila/render/explorer.ipynb"
+        url = server.base + "/voila/render/explorer.ipynb" + server.query
         with sync_playwright() as p:
             browser = p.chromium.launch(executable_path=chromium, headless=True,
                                         args=CHROMIUM_ARGS)

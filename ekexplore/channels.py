@@ -46,7 +46,30 @@ SHAPES: dict = {}
 
 
 def register_shape(cls):
-    """Class decorator that adds a :class:`Channel` subclass to :data:`SHAPES`."""
+    """Class decorator that adds a :class:`Channel` subclass to :data:`SHAPES`.
+
+    Parameters
+    ----------
+    cls : type
+        A subclass of :class:`Channel` with ``kind``, ``parameters``,
+        ``parameter_info`` (name -> :class:`ParameterInfo`, lengths in [m]),
+        the geometry properties and ``_kernel`` (see DEVELOPERS.md).
+
+    Returns
+    -------
+    type
+        ``cls`` itself, now listed in :data:`SHAPES` under its class name, so
+        that the dashboards and sweeps offer it with no other change.
+
+    Examples
+    --------
+    >>> @register_shape
+    ... class NamedSlit(Slit):
+    ...     pass
+    >>> SHAPES["NamedSlit"] is NamedSlit
+    True
+    >>> del SHAPES["NamedSlit"]
+    """
     SHAPES[cls.__name__] = cls
     return cls
 
@@ -142,6 +165,13 @@ class Slit(Channel):
         self.gap = _size("gap", gap)
         self.width = None if width is None else check_range("width", width, SIZE_MIN, 1.0,
                                                             unit="m")
+
+    def _parameter_shapes(self):
+        # the width is a parameter too when given: a shape mismatch names it
+        out = {"gap": np.shape(self.gap)}
+        if self.width is not None:
+            out["width"] = np.shape(self.width)
+        return out
 
     @property
     def _w(self):

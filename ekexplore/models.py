@@ -38,14 +38,14 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import special
 
-from .doublelayer import wall_potential_estimate
+from .doublelayer import PB_PHI_MAX, wall_potential_estimate
 
 __all__ = ["ModelSpec", "MODEL_TABLE", "MODEL_NAMES", "MODEL_CHOICES", "PHI_MAX",
            "KAPPA_SIZE_RANGE", "ERROR_METHOD", "estimated_model_errors", "choose_models",
            "geometry_index", "auto_choice"]
 
-#: Largest scaled wall potential |z e zeta / kT| any model accepts.
-PHI_MAX = 40.0
+#: Largest scaled wall potential |z e zeta / kT| any model accepts (the pb solver's).
+PHI_MAX = PB_PHI_MAX
 #: kappa x half-size range any model accepts.
 KAPPA_SIZE_RANGE = (1e-3, 1e5)
 

@@ -40,6 +40,43 @@ class Profiles(FieldTotals):
     and currents are for the driving gradients given to
     ``Result.profiles``: ``pressure_gradient`` = -dp/dx [Pa/m] and
     ``field`` = E_x [V/m].
+
+    Attributes
+    ----------
+    coordinate : ndarray
+        Distance from the mid-plane (slit, ``coordinate_name`` "y") or from
+        the axis (tube, "r") [m].
+    wall_distance : ndarray
+        Distance from the wall [m].
+    potential : ndarray
+        Electric potential psi [V] (zero in the reservoir).
+    concentrations : ndarray, shape (n_ions, \\*shape, n)
+        Ion concentrations [mol/m³], in the order of ``ion_names``.
+    charge_density : ndarray
+        Space charge rho_e [C/m³].
+    velocity_pressure, velocity_electroosmotic : ndarray
+        Axial velocity driven by the pressure gradient and by the field [m/s].
+    current_migration, current_convective : ndarray
+        Axial current density by migration and by convection of charge [A/m²].
+    velocity, current_density : ndarray
+        Their totals [m/s], [A/m²].
+    debye_length : ndarray, shape (\\*shape)
+        Debye length [m].
+    model : ndarray of str
+        Model of each point.
+    units : dict
+        Unit of every field.
+
+    Examples
+    --------
+    >>> import ekexplore as ek
+    >>> r = ek.solve(ek.Slit(gap=100e-9), ek.Electrolyte.salt("KCl", 1.0),
+    ...              ek.Wall(zeta=-0.05), model="pb")
+    >>> p = r.profiles(pressure_gradient=1e5, field=1e3)
+    >>> f"{float(p.potential[0]) * 1e3:.1f} mV"
+    '-50.0 mV'
+    >>> p.units["charge_density"]
+    'C/m^3'
     """
 
     coordinate: np.ndarray

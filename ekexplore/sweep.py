@@ -23,7 +23,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ._validate import check_choice, check_integer, check_scalar
+from ._validate import as_float_array, check_choice, check_integer, check_scalar
 from .channels import SHAPES
 from .electrolyte import SALTS, Electrolyte
 from .models import MODEL_CHOICES
@@ -476,6 +476,10 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
     unknown = sorted(set(cols) - known)
     if unknown:
         raise ValueError(f"sweep: unknown parameter(s) {unknown}; known: {sorted(known)}")
+    for k, v in cols.items():  # text, booleans or None refused up front, named
+        if np.asarray(v).dtype.kind not in "iuf":
+            cols[k] = as_float_array(k, np.asarray(v, dtype=object)) if np.asarray(
+                v).dtype.kind == "O" else as_float_array(k, v)
     n = len(cols["concentration"])
     inputs = list(cols)
     result_keys = list(_RESULT_KEYS) + (list(_CONDUCTANCE_KEYS) if length is not None else []) \

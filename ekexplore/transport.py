@@ -17,7 +17,7 @@ from ._validate import (broadcast_named, check_choice, check_finite_result, chec
                         check_range, check_scalar)
 from .channels import Channel
 from .electrolyte import Electrolyte
-from .models import ERROR_METHOD, MODEL_CHOICES, PHI_MAX as PB_PHI_MAX, auto_choice
+from .models import ERROR_METHOD, MODEL_CHOICES, PHI_MAX, auto_choice
 from .wall import Wall
 
 __all__ = ["solve", "Result", "MODEL_CHOICES"]
@@ -135,34 +135,84 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None):
                      "the size or the concentration")
     zmax = float(np.max(np.abs(cond.valences)))
     if cond.wall_condition == "potential":
-        check_range("zeta", cond.wall_value, -PB_PHI_MAX * cond.thermal_voltage.min() / zmax,
-                    PB_PHI_MAX * cond.thermal_voltage.min() / zmax, unit="V",
-                    hint=f"|z e zeta/kT| must stay below {PB_PHI_MAX:g}")
+        check_range("zeta", cond.wall_value, -PHI_MAX * cond.thermal_voltage.min() / zmax,
+                    PHI_MAX * cond.thermal_voltage.min() / zmax, unit="V",
+                    hint=f"|z e zeta/kT| must stay below {PHI_MAX:g}")
     models, estimates = _models(channel, cond, model, tol)
     out = channel._kernel(cond, models, {"accuracy": accuracy, "model_errors": estimates})
     if cond.wall_condition != "potential":
         phi = np.abs(out["wall_potential"]) / cond.thermal_voltage * zmax
-        over = (phi > PB_PHI_MAX) & (np.asarray(out["model"]) == "pb")
+        over = (phi > PHI_MAX) & (np.asarray(out["model"]) == "pb")
         if np.any(over):
             bad = float(np.max(np.abs(out["wall_potential"])[over]))
             raise ValueError(f"charge_density gives a wall potential of {bad:g} V, beyond the "
-                             f"solver range |z e zeta/kT| <= {PB_PHI_MAX:g}; lower the charge "
+                             f"solver range |z e zeta/kT| <= {PHI_MAX:g}; lower the charge "
                              "or raise the concentration")
     return Result(channel, electrolyte, wall, cond, out, model, tol)
 
 
 class Result:
-    """Coupling matrix, whole-channel figures and derived quantities.
+    r"""Coupling matrix, whole-channel figures and derived quantities of :func:`solve`.
 
     Every attribute is an ndarray of the broadcast input shape (0-d for
     scalar inputs) in SI units, per unit cross-section area unless said.
+    Built by :func:`solve` only.
 
-    For a wall whose charge follows the chemistry (``Wall(surface=..., pH=...)``)
-    ``wall_potential`` is the solved zeta, ``wall_charge`` the charge of the
-    sites, ``surface_potential`` the potential of the charged plane [V] and
-    ``charged_fraction`` the fraction of sites that carry a charge [-] (NaN
-    for other walls); all three follow from the solved zeta, so their
-    relative error is of the order of ``error_estimate``.
+    Attributes
+    ----------
+    matrix : ndarray, shape (..., 2, 2)
+        [[L11, L12], [L21, L22]] with [mean velocity, mean current density] =
+        matrix @ [-dp/dx, E_x]; L11 [m²/(Pa s)], L12 [m²/(V s)], L21
+        [A/(Pa m)], L22 [S/m].
+    model : ndarray of str
+        Model used at each point ("thin", "dh" or "pb").
+    requested_model : str
+        The ``model`` argument ("auto" included).
+    error_estimate : ndarray
+        Estimated relative error of the coefficients [-].
+    error_method : str
+        How ``error_estimate`` was obtained.
+    tol : float
+        The tolerance given to ``auto`` [-].
+    wall_potential : ndarray
+        Potential at the wall (zeta) [V].
+    wall_charge : ndarray
+        Wall charge density [C/m²].
+    surface_potential, charged_fraction : ndarray
+        For a wall whose charge follows the chemistry
+        (``Wall(surface=..., pH=...)``): the potential of the charged plane [V]
+        and the fraction of sites that carry a charge [-], at the solved zeta
+        (``wall_potential``; ``wall_charge`` is then the sites' charge). Their
+        relative error is of the order of ``error_estimate``. NaN for other walls.
+    debye_length : ndarray
+        Debye length [m].
+    kappa_size : ndarray
+        kappa x half-size [-].
+    bulk_conductivity : ndarray
+        Nernst–Einstein conductivity of the reservoir [S/m].
+    permittivity, viscosity, temperature : ndarray
+        Of the solution [F/m], [Pa s], [K].
+    channel, electrolyte, wall
+        The inputs.
+
+    Notes
+    -----
+    The coefficients, the derived quantities (``electroosmotic_mobility``,
+    ``streaming_potential_coefficient``, ``dukhin``, ``coupling_degree``,
+    ``max_efficiency``, ``counterion_share``, ...) and the whole-channel
+    figures (:meth:`conductances`, :meth:`pump_limits`) are properties and
+    methods; :meth:`as_dict` lists them all. The two off-diagonals are
+    computed independently (Onsager 1931, doi:10.1103/PhysRev.37.405).
+
+    Examples
+    --------
+    >>> import ekexplore as ek
+    >>> r = ek.solve(ek.Tube(diameter=200e-9), ek.Electrolyte.salt("KCl", 1.0),
+    ...              ek.Wall(zeta=-0.05), model="pb")
+    >>> str(r.model), r.matrix.shape
+    ('pb', (2, 2))
+    >>> bool(r.conductive > r.bulk_conductivity)
+    True
     """
 
     def __init__(self, channel, electrolyte, wall, conditions, out, model, tol):

@@ -46,9 +46,11 @@ def test_tube_geometry():
 
 
 @pytest.mark.parametrize("channel, mean_velocity_per_G_eta", [
-    # Plane Poiseuille, slit of full gap h: U = h^2 G / (12 eta)  (shared/references.md)
+    # Plane Poiseuille, slit of full gap h: U = h^2 G / (12 eta) (White, F. M. (2006).
+    # Viscous Fluid Flow, 3rd ed., McGraw-Hill, sec. 3-2; common practice)
     (Slit(gap=4e-6), lambda ch: ch.gap**2 / 12.0),
-    # Hagen-Poiseuille, tube of radius a: U = a^2 G / (8 eta)  (shared/references.md)
+    # Hagen-Poiseuille, tube of radius a: U = a^2 G / (8 eta) (White 2006, same book,
+    # sec. 3-3; common practice)
     (Tube(diameter=4e-6), lambda ch: (ch.diameter / 2) ** 2 / 8.0),
 ])
 def test_poiseuille_number_from_the_closed_form_flow(channel, mean_velocity_per_G_eta):
@@ -170,3 +172,15 @@ def test_base_class_is_abstract():
 def test_repr_names_the_parameters():
     assert repr(Slit(gap=1e-6)).startswith("Slit(gap=")
     assert repr(Tube(diameter=1e-6)).startswith("Tube(diameter=")
+
+
+def test_slit_width_is_a_declared_parameter():
+    # gap and width broadcast together, and a mismatch names the width
+    s = Slit(gap=np.array([1e-6, 2e-6]), width=np.array([[1e-3], [2e-3]]))
+    assert s.shape == (2, 2)
+    with pytest.raises(ValueError, match="width has shape"):
+        Slit(gap=np.array([1e-6, 2e-6, 3e-6]), width=np.array([1e-3, 2e-3])).shape
+    import ekexplore as ek
+    with pytest.raises(ValueError, match="width has shape"):
+        ek.solve(Slit(gap=np.array([1e-6, 2e-6, 3e-6]), width=np.array([1e-3, 2e-3])),
+                 ek.Electrolyte.salt("KCl", 1.0), ek.Wall(zeta=-0.05))

@@ -24,8 +24,9 @@ from ekexplore.dashboards.state import CUSTOM, State  # noqa: E402
 RTOL = 1e-12
 
 
-def reference(salt="KCl", c=1.0, zeta=-0.05, gap=1e-6, model="auto", T=298.15):
-    return ek.solve(ek.Slit(gap=gap), ek.Electrolyte.salt(salt, c, temperature=T),
+def reference(salt="KCl", c=1.0, zeta=-0.05, gap=1e-6, model="auto", T=298.15,
+              width=State().width):
+    return ek.solve(ek.Slit(gap=gap, width=width), ek.Electrolyte.salt(salt, c, temperature=T),
                     ek.Wall(zeta=zeta), model=model)
 
 
@@ -37,12 +38,24 @@ def test_state_builds_public_objects():
     assert_allclose(r.matrix, ref.matrix, rtol=RTOL)
 
 
-def test_state_shape_change_resets_parameters():
+def test_state_shape_change_keeps_the_size():
+    # the shape switch keeps the size the user set where the new shape has one
     s = State()
     s.size = 3e-7
     s.shape = "Tube"
     assert s.size_name == "diameter"
-    assert s.shape_params == {"diameter": ek.SHAPES["Tube"].parameter_info["diameter"].default}
+    assert s.shape_params == {"diameter": 3e-7}
+    s.shape = "Ellipse"                       # main size kept, default proportions
+    assert s.shape_params["width"] == 3e-7
+    ratio = (ek.SHAPES["Ellipse"].parameter_info["height"].default
+             / ek.SHAPES["Ellipse"].parameter_info["width"].default)
+    assert_allclose(s.shape_params["height"], 3e-7 * ratio, rtol=1e-12)
+    s.shape = "Slit"
+    s.size, s.width = 2e-7, 1.5e-6
+    s.shape = "Rectangle"                     # a slit's gap is the depth, its width the width
+    assert s.shape_params == {"width": 1.5e-6, "depth": 2e-7}
+    s.shape = "Slit"
+    assert s.shape_params == {"gap": 2e-7}
 
 
 def test_state_custom_symmetric_electrolyte():
@@ -77,9 +90,9 @@ def test_explorer_readouts_follow_the_concentration_slider():
     assert_allclose(v.sources["potential"].data["y"], np.asarray(p.potential) * 1e3, rtol=RTOL)
     assert not np.allclose(before_phi[:5], v.sources["potential"].data["y"][:5])
     # the whole-channel table shows the conductance in engineering units
-    from ekexplore.dashboards.units import eng
+    from ekexplore.dashboards.units import current
     cond = ref.conductances(v.state.length)["conductance"]
-    assert eng(float(cond), "A") in v.matrix.value
+    assert current(float(cond)) in v.matrix.value
 
 
 def test_explorer_widgets_set_state_in_si_units():
@@ -104,7 +117,8 @@ def test_explorer_verdict_uses_the_thin_model_ratio():
     ratio = float(thin.electroosmotic / r.electroosmotic)
     assert ratio > 1.05           # overlapping layers: the slip model overestimates
     assert "overlap" in v.verdict.value
-    assert f"{ratio:.2g}x" in v.verdict.value
+    assert f"{ratio:.2g}×" in v.verdict.value
+    assert "against pb" in v.verdict.value
 
 
 def test_explorer_bad_input_shows_message_and_keeps_plots():
@@ -112,11 +126,14 @@ def test_explorer_bad_input_shows_message_and_keeps_plots():
     good = dict(v.sources["potential"].data)
     v.controls.stern.value = -5.0                   # negative conductance [nS]
     assert v.status.kind == "error"
-    assert "stern_conductance" in v.status.message
+    # named as the screen labels it, in the screen's unit; the field keeps 0
+    assert "Stern cond. -5 nS: enter a value from 0 to 1000 nS" in v.status.message
+    assert "up to date" not in v.status.message
+    assert v.controls.stern.value == 0.0 and v.state.stern_conductance == 0.0
     assert "Traceback" not in v.status.widget.value
     assert v.sources["potential"].data is not None
     assert_allclose(v.sources["potential"].data["y"], good["y"])
-    v.controls.stern.value = 0.0                    # recovers
+    v.controls.stern.value = 1.0                    # recovers
     assert v.status.kind == "ok"
 
 
@@ -124,7 +141,7 @@ def test_explorer_outside_solver_range_is_a_message():
     v = ExplorerView(State())
     v.controls.concentration.value = 1000.0
     v.controls.size.value = 1000.0                  # 1 mm at 1 M: kappa*a ~ 1e6
-    assert v.status.kind == "error" and "kappa" in v.status.message
+    assert v.status.kind == "error" and "κ·a" in v.status.message
 
 
 def test_explorer_lists_every_registered_shape():
@@ -273,3 +290,74 @@ def test_explorer_near_wall_view_uses_wall_distance():
     assert v.grids["wall"].visible and not v.grids["across"].visible
     spans = v.debye_markers["wall"].data["x"]
     assert_allclose(spans, float(ref.debye_length) * k, rtol=1e-12)
+
+
+# ---- honest inputs ----------------------------------------------------------------
+def test_typed_value_outside_the_slider_widens_it_where_physics_allows():
+    v = ExplorerView(State())
+    v.controls.zeta.value = -400.0                   # beyond the slider's -200 mV
+    assert v.controls.zeta.min <= -400.0 and v.controls.zeta.value == -400.0
+    assert_allclose(v.state.zeta, -0.4, rtol=1e-12)
+    v.controls.size.value = 0.002                    # 2 nm, below the slider's 5 nm
+    assert_allclose(v.state.size, 2e-9, rtol=1e-12)
+    assert 10 ** v.controls.size.min <= 0.002
+
+
+@pytest.mark.parametrize("control, typed, message", [
+    ("concentration", 0.0, "salt conc. 0 mM: enter a value from 0.0001 to 5000 mM"),
+    ("zeta", -999.0, "ζ -999 mV: enter a value from -600 to 600 mV"),
+    ("temperature", 150.0, "temperature 150 °C: enter a value from 0 to 100 °C"),
+    ("size", -1.0, "gap (wall to wall) -1 µm: enter a value from 0.001 to 10000 µm"),
+])
+def test_typed_value_out_of_range_is_refused_in_screen_words(control, typed, message):
+    v = ExplorerView(State())
+    before_state = v.state.trait_values()
+    good = np.array(v.sources["potential"].data["y"])
+    widget = getattr(v.controls, control)
+    old = widget.value
+    widget.value = typed
+    assert widget.value == old                        # no silent clamping either
+    assert v.state.trait_values() == before_state
+    assert v.status.kind == "error"
+    assert message in v.status.message, v.status.message
+    assert "up to date" not in v.status.message
+    assert_allclose(v.sources["potential"].data["y"], good)
+
+
+def test_library_messages_reach_the_screen_in_its_words():
+    v = ExplorerView(State())
+    v.state.zeta = -0.9                               # set directly, past the widget
+    assert v.status.kind == "error"
+    assert "ζ -900 mV: enter a value from -600 to 600 mV" in v.status.message
+    assert "zeta" not in v.status.message and " V " not in v.status.message
+
+
+# ---- exported code ------------------------------------------------------------------
+def test_code_cell_includes_the_driving_and_reproduces_the_device():
+    st = State(shape="Tube", size=3e-6, voltage=120.0, pressure_drop=2e3, length=7e-3,
+               channels=3)
+    d = DeviceView(st)
+    ns = {}
+    exec(compile(d.export.code.value, "<show code>", "exec"), ns)
+    assert_allclose(float(ns["flow"]), d.last.flow, rtol=RTOL)
+    assert_allclose(float(ns["current"]), d.last.current, rtol=RTOL)
+    reg = RegimesView(State(salt="NaCl", concentration=3.0), n=6)
+    assert "ek.Electrolyte.salt('NaCl', 3.0" in reg.export.code.value
+
+
+def test_code_cell_is_readable_and_quotes_every_name():
+    import ast
+    st = State(concentration=np.float64(2.5), zeta=np.float64(-0.03))
+    code = st.code()
+    assert "np.float64" not in code and "2.5" in code
+    # a crafted state: names that would be code if pasted unquoted
+    evil = "x=__import__('os').system('echo owned')"
+    st.shape_params = {"gap": 1e-6, evil: 1.0}
+    st.salt = "KCl', 1.0); __import__('os'); ('"
+    code = st.code()
+    tree = ast.parse(code)
+    names = {n.id for n in ast.walk(tree) if isinstance(n, ast.Name)}
+    assert names <= {"ek", "electrolyte", "wall", "channel", "result", "print", "length",
+                     "voltage", "pressure_drop", "channels", "c", "flow", "current", "float"}
+    consts = [n.value for n in ast.walk(tree) if isinstance(n, ast.Constant)]
+    assert evil in consts and st.salt in consts

@@ -99,3 +99,86 @@ def test_explorer_section_updates_again_and_again():
         after = v.field_sources["potential"].data["image"][0]
         assert not np.allclose(np.nan_to_num(before), np.nan_to_num(after))
         assert v.field_widget in v.field_box.children
+
+
+# ---- the 2D field images --------------------------------------------------------
+def _inside(shape, p, X, Y):
+    """Pixel centres strictly inside the exact section (geometry written here), with
+    a margin of one pixel diagonal so that the meshed polygon's chords of a
+    curved wall do not count against the image."""
+    if shape == "Rectangle":
+        return np.ones_like(X, dtype=bool)
+    if shape == "Ellipse":
+        a, b = p["width"] / 2, p["height"] / 2
+        return ((X - a) / a) ** 2 + ((Y - b) / b) ** 2 < 1.0
+    if shape == "Trapezoid":   # top width at y = depth, bottom width at y = 0, centred
+        top, bot, d = p["top_width"], p["bottom_width"], p["depth"]
+        half = bot / 2 + (top - bot) / 2 * Y / d
+        return np.abs(X - top / 2) < half
+    raise AssertionError(shape)
+
+
+@pytest.mark.parametrize("shape", ["Rectangle", "Ellipse", "Trapezoid"])
+def test_field_image_has_no_blank_pixel_inside_the_section(shape):
+    v = ExplorerView(State(shape=shape))
+    v.worker.wait(600)
+    assert v.status.kind == "ok", v.status.message
+    img = v.last.images
+    a = img["potential"]
+    ny, nx = a.shape
+    dx, dy = img["width"] / nx, img["height"] / ny
+    assert_allclose(dx, dy, rtol=0.05)          # square pixels
+    xc = (np.arange(nx) + 0.5) * dx
+    yc = (np.arange(ny) + 0.5) * dy
+    X, Y = np.meshgrid(xc, yc)
+    p = v.state.shape_params
+    margin = np.hypot(dx, dy)
+    # shrink the exact section by one pixel diagonal: the meshed polygon lies inside it
+    core = np.ones_like(X, dtype=bool)
+    for sx in (-1, 0, 1):
+        for sy in (-1, 0, 1):
+            core &= _inside(shape, p, X + sx * margin, Y + sy * margin)
+    assert core.sum() > 0.5 * core.size
+    assert np.all(np.isfinite(a[core])), f"{np.sum(~np.isfinite(a[core]))} blank pixels"
+    # the image spans the section's bounding box exactly
+    width = p.get("width", p.get("top_width"))
+    height = p.get("depth", p.get("height"))
+    assert_allclose([img["width"], img["height"]], [width, height], rtol=1e-6)
+
+
+def test_field_plots_refit_to_each_shape_with_equal_aspect():
+    v = ExplorerView(State(shape="Rectangle"))
+    v.worker.wait(600)
+    for shape, params in (("Trapezoid", None), ("Ellipse", {"width": 2e-6, "height": 1e-6}),
+                          ("Rectangle", {"width": 100e-9, "depth": 50e-9})):
+        v.state.shape = shape
+        if params:
+            v.state.shape_params = params
+        v.worker.wait(600)
+        assert v.status.kind == "ok", v.status.message
+        img = v.last.images
+        fig = v.field_figures[0]
+        k = 1e9 if max(img["width"], img["height"]) < 1e-6 else 1e6
+        # the axes span the section exactly (no window of an earlier shape) ...
+        assert_allclose([fig.x_range.start, fig.x_range.end],
+                        [img["x0"] * k, (img["x0"] + img["width"]) * k], rtol=1e-9)
+        assert_allclose([fig.y_range.start, fig.y_range.end],
+                        [img["y0"] * k, (img["y0"] + img["height"]) * k], rtol=1e-9)
+        # ... at equal scale on both axes (one pixel of screen per same length)
+        sx = (fig.x_range.end - fig.x_range.start) / fig.frame_width
+        sy = (fig.y_range.end - fig.y_range.start) / fig.frame_height
+        assert_allclose(sx, sy, rtol=0.03)
+        if params and params.get("depth") == 50e-9:
+            assert fig.xaxis.axis_label == "x [nm]"
+            assert_allclose(fig.x_range.end - fig.x_range.start, 100.0, rtol=1e-6)
+
+
+def test_log_colour_scale_spans_decades_of_the_magnitude():
+    v = ExplorerView(State(shape="Rectangle", concentration=100.0))
+    v.worker.wait(600)
+    v.field_scale.value = "log"
+    m = v.field_images_glyphs["potential"].glyph.color_mapper
+    assert m is v.field_log_mappers["potential"]
+    assert_allclose(m.high / m.low, 10 ** v.LOG_DECADES, rtol=1e-9)
+    # the wall potential |ζ| = 50 mV tops the scale
+    assert_allclose(m.high, 50.0, rtol=0.02)

@@ -14,7 +14,8 @@ R = constants.R
 T25 = constants.zero_Celsius + 25.0
 
 # CRC Handbook of Chemistry and Physics, "Ionic conductivity and diffusion at
-# infinite dilution", 25 degC, as listed in shared/references.md. Values are per
+# infinite dilution", 25 degC (Haynes, W. M., ed., CRC Press; values from memory,
+# as listed here). Values are per
 # equivalent for the multivalent ions (1/2 Ca2+, 1/2 Mg2+, 1/2 SO4^2-), in
 # S cm^2/mol: name -> (z, lambda per equivalent).
 CRC_LAMBDA = {
@@ -51,7 +52,7 @@ REQUIRED_PRESETS = {
 @pytest.mark.parametrize("name", sorted(CRC_LAMBDA))
 def test_diffusivity_from_crc_conductivity(name):
     # Source: CRC Handbook, "Ionic conductivity and diffusion at infinite
-    # dilution" (table in shared/references.md); D = R T Lambda / (z^2 F^2)
+    # dilution" (values in CRC_LAMBDA above); D = R T Lambda / (z^2 F^2)
     # with Lambda the molar ionic conductivity (= |z| x the per-equivalent value).
     z, _ = CRC_LAMBDA[name]
     expected = R * T25 * molar_ionic_conductivity_SI(name) / (z**2 * F**2)
@@ -89,7 +90,7 @@ def test_stokes_einstein_scaling(T):
 
 
 def test_molar_conductivity_at_25C_is_the_crc_value():
-    # Source: CRC table (shared/references.md): Nernst-Einstein z^2F^2D/(RT)
+    # Source: the CRC Handbook table above (CRC_LAMBDA): Nernst-Einstein z^2F^2D/(RT)
     # returns the tabulated molar ionic conductivity.
     for name in CRC_LAMBDA:
         assert_allclose(ION_TABLE[name].molar_conductivity_at(T25),
@@ -222,7 +223,7 @@ def test_debye_length_rule_of_thumb(I_molar):
 @pytest.mark.parametrize("I, T", [(0.01, 275.0), (1.0, 298.15), (150.0, 310.15), (1e3, 360.0)])
 def test_debye_length_formula(I, T):
     # kappa^-1 = sqrt(eps_r eps0 k T / (2 N_A e^2 I)), I in mol/m^3 (Debye & Hueckel
-    # 1923; shared/references.md), computed here from scipy constants and the
+    # 1923, Phys. Z. 24, 185), computed here from scipy constants and the
     # Malmberg-Maryott fit.
     eps = water_relative_permittivity(T) * constants.epsilon_0
     expected = np.sqrt(eps * constants.k * T / (2 * constants.N_A * constants.e**2 * I))
@@ -293,7 +294,8 @@ def test_concentrations_read_only():
 @pytest.mark.parametrize("name", sorted(REQUIRED_PRESETS))
 def test_ideal_conductivity_is_sum_lambda_c(name):
     # Kohlrausch's independent migration at infinite dilution: K = sum lambda_i c_i
-    # with the CRC molar ionic conductivities (shared/references.md).
+    # with the CRC molar ionic conductivities (CRC_LAMBDA above; Kohlrausch 1876, common
+    # practice).
     c = 2.0
     stoich, _ = REQUIRED_PRESETS[name]
     expected = sum(nu * c * molar_ionic_conductivity_SI(ion) for ion, nu in stoich.items())
@@ -321,7 +323,7 @@ def test_dho_limiting_law_coefficients():
     # fit the slope for six salts, then A and B across them.
     L0, S = _limiting_slopes(ONE_ONE)
     B, A = np.polyfit(L0, S, 1)
-    # The intercepts are the CRC Lambda0 (shared/references.md).
+    # The intercepts are the CRC Lambda0 (CRC_LAMBDA above).
     for name, l0 in zip(ONE_ONE, L0):
         ions = [i for i, _ in SALTS[name]]
         expected = sum(molar_ionic_conductivity_SI(i) for i in ions) * 1e4
@@ -355,8 +357,9 @@ def _kcl_molarity(m):
 KCL_STANDARDS = [
     (0.001, 146.9e-4),   # 0.001 mol/L KCl 146.9 uS/cm (common practice; from memory);
                          # mol/L vs mol/kg differ by 0.3 % here, inside the tolerance
-    (0.01, 1408e-4),     # Wu, Koch & Pratt 1991, J. Res. NIST 96, 191 (shared/references.md)
-    (0.1, 12.82e-1),     # Wu, Koch & Pratt 1991, J. Res. NIST 96, 191 (shared/references.md)
+    (0.01, 1408e-4),     # Wu, Y. C.; Koch, W. F.; Pratt, K. W. (1991). J. Res. NIST 96, 191,
+                         # doi:10.6028/jres.096.008, 0.01 mol/kg at 25 C (from memory)
+    (0.1, 12.82e-1),     # same source, 0.1 mol/kg at 25 C (from memory)
 ]
 
 

@@ -33,7 +33,8 @@ def test_fields_and_coordinates(wide):
 
 def test_wall_normal_cut_is_the_slit_profile(wide):
     # slit DH profile psi = zeta cosh(kappa y)/cosh(kappa d), d the half gap
-    # (common practice; see shared references); at mid-width the side walls are
+    # (Burgreen & Nakache 1964, J. Phys. Chem. 68, 1084, doi:10.1021/j100787a019, in
+    # its linear limit; common practice); at mid-width the side walls are
     # 1 um (100 Debye lengths) away, so the field is the slit's. The cut
     # interpolates linearly inside mesh cells: error <= h^2/8 max|psi''|, about
     # 2e-3 |zeta| on the default mesh, hence atol = 2.5e-3 |zeta|.

@@ -1,6 +1,7 @@
 """Input validation of the 2D sections: bad shapes raise named ValueErrors."""
 import numpy as np
 import pytest
+from numpy.testing import assert_allclose
 
 from ekexplore.sections import Ellipse, IsotropicEtch, Polygon, Rectangle, Trapezoid
 
@@ -82,3 +83,28 @@ def test_polygon_geometry_is_scale_free(scale):
     np.testing.assert_allclose(p._centre, [scale, scale], rtol=1e-9)
     t = Trapezoid(3 * scale, 1 * scale, 1 * scale)
     np.testing.assert_allclose(t.half_size, 0.5 * scale, rtol=1e-9)   # limited by the depth
+
+
+def test_trapezoid_inradius_closed_form_against_a_linear_program():
+    # The largest inscribed circle of a convex polygon is a linear program
+    # (Chebyshev centre: maximise r subject to n_e . x + r <= n_e . v_e for every
+    # edge; Boyd & Vandenberghe 2004, Convex Optimization, sec. 8.5.1), solved
+    # here by scipy.optimize.linprog independently of the closed form.
+    from scipy.optimize import linprog
+    rng = np.random.default_rng(3)
+    t = rng.uniform(0.0, 5e-6, 40)
+    b = rng.uniform(0.0, 5e-6, 40)
+    b[:4] = 0.0                      # V-grooves
+    d = rng.uniform(0.2e-6, 3e-6, 40)
+    ch = Trapezoid(t, b, d)
+    for k in range(40):
+        V = np.array([[-0.5 * b[k], 0.0], [0.5 * b[k], 0.0], [0.5 * t[k], d[k]],
+                      [-0.5 * t[k], d[k]]]) / 1e-6
+        keep = np.r_[True, np.linalg.norm(np.diff(V, axis=0), axis=1) > 0]
+        V = V[keep]
+        e = np.roll(V, -1, axis=0) - V
+        n = np.stack([e[:, 1], -e[:, 0]], 1) / np.linalg.norm(e, axis=1)[:, None]
+        res = linprog([0, 0, -1], A_ub=np.hstack([n, np.ones((len(V), 1))]),
+                      b_ub=np.sum(n * V, axis=1), bounds=[(None, None)] * 2 + [(0, None)],
+                      method="highs")
+        assert_allclose(ch.half_size[k], res.x[2] * 1e-6, rtol=1e-7)

@@ -166,7 +166,12 @@ def test_properties_reciprocity_definiteness_finiteness(case, model):
         return
     M = r.matrix
     assert np.all(np.isfinite(M))
-    assert float(r.reciprocity_residual) <= 1e-8
+    # reciprocity can fail only where L12 and L21 come from a discretised
+    # solution (pb); for thin (L21 = L12 identically) and dh (Green's identity)
+    # it is an identity, checked instead through their closed forms against
+    # quadrature in test_kernels1d.py
+    if np.all(r.model == "pb"):
+        assert float(r.reciprocity_residual) <= 1e-8
     # The slip model is an asymptotic (kappa a >> 1) model: outside that range its
     # plug electro-osmosis over a Poiseuille L11, and its flat-wall surface
     # conduction, can break definiteness, so the second-law check applies to it only
@@ -183,7 +188,6 @@ def test_properties_reciprocity_definiteness_finiteness(case, model):
 @given(st.lists(cases(), min_size=2, max_size=4), st.sampled_from(["pb", "auto"]))
 def test_properties_scalar_and_batched_agree(batch, model):
     # Same inputs one at a time and as one array call give the same numbers.
-    salts = {type(c[0]).__name__ for c in batch}
     ch0, e0, w0 = batch[0]
     # build a batch over size and wall value with the first case's electrolyte
     sizes = np.array([float(c[0].half_size) * 2 for c in batch])
@@ -205,4 +209,3 @@ def test_properties_scalar_and_batched_agree(batch, model):
         ri = ek.solve(Cls(sizes[i]), e0, single[i], model=model)
         assert_allclose(rb.matrix[i], ri.matrix, rtol=1e-12)
         assert rb.model[i] == ri.model
-    assert salts

@@ -203,3 +203,15 @@ def test_nan_and_inf_still_named():
 def test_ragged_and_complex_refused():
     _raises(lambda: ek.Slit([[1e-7], [1e-7, 2e-7]]), "gap")
     _raises(lambda: ek.Slit(1e-7 + 0j), "gap", "complex")
+
+
+def test_sweep_text_or_boolean_columns_refused_up_front(tmp_path):
+    _raises(lambda: ek.sweep(grid={"gap": ["1e-6", "2e-6"]}, concentration=1.0, zeta=-0.05,
+                             output=tmp_path / "run.csv"), "gap", "'1e-6'")
+    _raises(lambda: ek.sweep(grid={"gap": [1e-7]}, concentration="1", zeta=-0.05),
+            "concentration", "'1'")
+    _raises(lambda: ek.sweep(table={"gap": [1e-7, None], "concentration": [1.0, 1.0]},
+                             zeta=-0.05), "gap", "None")
+    _raises(lambda: ek.sweep(grid={"gap": [1e-7]}, concentration=1.0, zeta=True), "zeta",
+            "boolean")
+    assert not (tmp_path / "run.csv").exists()

@@ -199,7 +199,9 @@ def _expected_conductances(e, I_mig, I_conv):
 def test_conductance_vs_gouy_chapman_quadrature(z, zeta):
     # Independent numerical integration in x on the Gouy-Chapman profile of a
     # z:z salt, tanh(z phi/4) = tanh(z phi_w/4) exp(-kappa x) (Gouy 1910; Chapman
-    # 1913; shared/references.md), by scipy.integrate.quad.
+    # 1913: Gouy, G., J. Phys. Theor. Appl. 9, 457, doi:10.1051/jphystap:019100090045700;
+    # Chapman, D. L., Phil. Mag. 25, 475, doi:10.1080/14786440408634187), by
+    # scipy.integrate.quad.
     T = 300.0
     e = Electrolyte.symmetric(z, 5.0, 1.2e-9, 2.0e-9, temperature=T)
     kappa = 1.0 / float(e.debye_length)

@@ -4,8 +4,11 @@ from __future__ import annotations
 
 import base64
 import html
+import math
+import re
 
 import ipywidgets as w
+import numpy as np
 import traitlets
 
 import ekexplore as ek
@@ -13,7 +16,7 @@ import ekexplore as ek
 from .state import CUSTOM, SIZE_RANGE, State, listed_shapes, size_parameter
 
 __all__ = ["load_bokeh", "new_figure", "bokeh_widget", "PALETTE", "Status", "SetupControls",
-           "download_link", "section_title", "SAFETY_NOTE", "Worker", "ViewUpdates", "error_text"]
+           "download_link", "section_title", "SAFETY_NOTE", "CodeExport", "Worker", "ViewUpdates", "error_text"]
 
 #: Okabe & Ito (2008), "Color Universal Design", colour-blind-safe qualitative palette.
 PALETTE = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#000000",
@@ -40,6 +43,9 @@ CSS = """
 .ekx-small {font-size: 11.5px; line-height: 1.3; color: #4a5a68;}
 .ekx-caution {font-size: 12.5px; padding: 6px 10px; background: #fff3e6;
               border-left: 4px solid #D55E00; margin: 4px 0;}
+.ekx-warn {font-size: 13px; padding: 4px 10px; background: #fbe9e4; color: #7a1f0c;
+            border-left: 4px solid #D55E00; margin: 4px 0;}
+.ekx-copy {font-size: 12.5px; padding: 2px 10px; margin: 2px 0; cursor: pointer;}
 .ekx-head {font-size: 13px; font-weight: 600; margin: 2px 0 0 0; color: #1b2a38;}
 </style>
 """
@@ -98,6 +104,41 @@ def download_link(filename, text_data, label):
             f"style='margin-right:14px'>⬇ {html.escape(label)}</a>")
 
 
+_COPY_JS = ("var b=this,t=b.closest('.ekx-code-box').querySelector('textarea');"
+            "t.select();var ok=false;try{ok=document.execCommand('copy')}catch(e){}"
+            "var say=function(x){b.textContent=x;setTimeout(function(){"
+            "b.textContent='⧉ Copy code'},2500)};"
+            "if(navigator.clipboard&&window.isSecureContext){navigator.clipboard.writeText("
+            "t.value).then(function(){say('✓ copied')},function(){"
+            "say(ok?'✓ copied':'select the text and press Ctrl+C')})}"
+            "else{say(ok?'✓ copied':'select the text and press Ctrl+C')}")
+
+
+class CodeExport:
+    """"Show code": a Python cell that reproduces the page through the public
+    API (inputs and driving), with a copy button, and optional downloads."""
+
+    def __init__(self, width="900px"):
+        self.code = w.Textarea(layout=w.Layout(width=width, height="330px"))
+        self.code.add_class("ekx-code")
+        self.button = w.ToggleButton(description="Show code", icon="code",
+                                     tooltip="a Python cell that reproduces this computation "
+                                             "through the public API")
+        self.copy = w.HTML("<button class='ekx-copy' title='copy the cell to the clipboard' "
+                           f"onclick=\"{_COPY_JS}\">⧉ Copy code</button>")
+        self.box = w.VBox([self.copy, self.code], layout=w.Layout(display="none"))
+        self.box.add_class("ekx-code-box")
+        self.downloads = w.HTML()
+        self.button.observe(self._toggle, "value")
+        self.widget = w.VBox([w.HBox([self.button, self.downloads]), self.box])
+
+    def _toggle(self, change):
+        self.box.layout.display = None if change["new"] else "none"
+
+    def show(self, state):
+        self.code.value = state.code()
+
+
 class Status:
     """The status area: ok, busy or a readable error (never a traceback)."""
 
@@ -134,6 +175,74 @@ def _link(widget, state, name, to_state=None, to_widget=None):
     return traitlets.link((state, name), (widget, "value"), transform=(to_widget, to_state))
 
 
+class _Honest:
+    """Mixin for number widgets: a typed value outside the slider's range widens
+    the range when it lies within ``limits`` (what the physics and the solver
+    accept), and is otherwise refused: the widget keeps its last good value and
+    ``on_reject(message)`` gets a message in the screen's words and units."""
+
+    def setup_honest(self, name, unit, limits, on_reject, log=False, integer=False):
+        self._h_name, self._h_unit, self._h_limits = name, unit, limits
+        self._h_reject, self._h_log = on_reject, log
+        return self
+
+    def _honest(self, proposal, clamp_lo, clamp_hi):
+        v = proposal["value"]
+        lo, hi, lo_open = self._h_limits
+        old = self.value
+        try:
+            v = float(v)
+        except (TypeError, ValueError):
+            return self._refuse(v, old)
+        if not np.isfinite(v):
+            return self._refuse(v, old)
+        if clamp_lo <= v <= clamp_hi:
+            return v
+        ok = (v > lo if lo_open else v >= lo) and v <= hi
+        if not ok:
+            return self._refuse(v, old)
+        if self._h_log:   # exponents
+            if v < clamp_lo:
+                self.min = math.floor(math.log10(v) * 20) / 20
+            else:
+                self.max = math.ceil(math.log10(v) * 20) / 20
+        else:
+            if v < clamp_lo:
+                self.min = v
+            else:
+                self.max = v
+        return v
+
+    def _refuse(self, v, old):
+        lo, hi, lo_open = self._h_limits
+        shown = f"{v:.4g}" if isinstance(v, float) else str(v)
+        if lo_open and lo == 0.0:
+            rng = f"a value above 0 and up to {hi:g} {self._h_unit}"
+        else:
+            rng = f"a value from {lo:g} to {hi:g} {self._h_unit}"
+        self._h_reject(f"{self._h_name} {shown} {self._h_unit}: enter {rng}")
+        return old
+
+
+class HonestFloatSlider(_Honest, w.FloatSlider):
+    @traitlets.validate("value")
+    def _validate_value(self, proposal):
+        return self._honest(proposal, self.min, self.max)
+
+
+class HonestFloatLogSlider(_Honest, w.FloatLogSlider):
+    @traitlets.validate("value")
+    def _validate_value(self, proposal):
+        return self._honest(proposal, self.base ** self.min, self.base ** self.max)
+
+
+class HonestFloatText(_Honest, w.FloatText):
+    @traitlets.validate("value")
+    def _validate_value(self, proposal):
+        lo, hi, lo_open = self._h_limits
+        return self._honest(proposal, lo if not lo_open else math.nextafter(lo, math.inf), hi)
+
+
 def _slider():
     """Keyword arguments of a slider: a fresh Layout each time (a shared Layout
     would hide every widget at once)."""
@@ -145,49 +254,115 @@ def _text():
     return dict(style={"description_width": "125px"}, layout=w.Layout(width="260px"))
 
 
+#: What a typed value may be, per control, in the control's own units:
+#: (lowest, highest, lowest excluded). Inside these limits a typed value
+#: outside the slider widens it; outside them it is refused with a message.
+LIMITS = {
+    # 0.1 uM: water's own ions (H+, OH-) are 0.1 uM, below that "salt" means
+    # nothing; 5 M: beyond every salt's solubility of interest and far past
+    # point-ion theory (common practice).
+    "concentration": (1e-4, 5e3, False),
+    "temperature": (ek.medium.T_MIN - 273.15, ek.medium.T_MAX - 273.15, False),
+    "zeta": (-ek.wall.ZETA_MAX * 1e3, ek.wall.ZETA_MAX * 1e3, False),
+    "charge": (-ek.wall.SIGMA_MAX * 1e3, ek.wall.SIGMA_MAX * 1e3, False),
+    "stern": (0.0, ek.wall.STERN_MAX * 1e9, False),
+    "size": (ek.channels.SIZE_MIN * 1e6, ek.channels.SIZE_MAX * 1e6, False),
+    "width": (ek.channels.SIZE_MIN * 1e6, 1e6, False),           # slit width up to 1 m
+    "length": (1e-3, 1e4, False),                                 # 1 um to 10 m, in mm
+    "voltage": (-1e5, 1e5, False),
+    "pressure": (-1e5, 1e5, False),                               # kPa
+    "channels": (1, 1_000_000, False),
+    "max_pressure": (0.0, 1e5, True),
+    "max_voltage": (0.0, 1e5, True),
+}
+
+
+class HonestIntText(_Honest, w.IntText):
+    @traitlets.validate("value")
+    def _validate_value(self, proposal):
+        lo, hi, _ = self._h_limits
+        return int(self._honest(proposal, lo, hi))
+
+
 class SetupControls:
     """Electrolyte, wall, channel and model controls bound to a state.
 
     ``include_drive`` adds channel length, voltage and pressure drop (used
-    for the whole-channel figures and the profiles).
+    for the whole-channel figures and the profiles); ``include_device`` the
+    channel count and the chip's pressure and voltage ratings.
+    A refused typed value calls every function in ``rejections`` with a
+    message in the screen's words.
     """
 
-    def __init__(self, state: State, include_drive=True, include_model=True):
+    def __init__(self, state: State, include_drive=True, include_model=True,
+                 include_device=False):
         self.state = state
         s = state
         self.links = []
+        self.rejections = []
+        rej = self._reject
+
+        def honest(widget, key, name, unit, log=False):
+            return widget.setup_honest(name, unit, LIMITS[key], rej, log=log)
+
         # electrolyte
         self.salt = w.Dropdown(options=list(ek.SALTS) + [CUSTOM], description="electrolyte",
                                **_text())
         self.valence = w.Dropdown(options=[1, 2, 3, 4], description="valence z (z:z)", **_text())
-        self.concentration = w.FloatLogSlider(
+        self.concentration = honest(HonestFloatLogSlider(
             base=10, min=-3, max=3, step=0.05, readout_format=".3g",
-            description="salt conc. [mM]", **_slider())
-        self.temperature = w.FloatSlider(min=0.0, max=100.0, step=1.0, readout_format=".0f",
-                                         description="temperature [°C]", **_slider())
+            description="salt conc. [mM]", **_slider()), "concentration", "salt conc.", "mM",
+            log=True)
+        self.temperature = honest(HonestFloatSlider(
+            min=0.0, max=100.0, step=1.0, readout_format=".0f",
+            description="temperature [°C]", **_slider()), "temperature", "temperature", "°C")
         # wall
         self.wall_mode = w.ToggleButtons(options=[("ζ potential", "zeta"),
                                                   ("surface charge", "charge")],
                                          style={"button_width": "115px"})
-        self.zeta = w.FloatSlider(min=-200.0, max=200.0, step=1.0, readout_format=".0f",
-                                  description="ζ [mV]", **_slider())
-        self.charge = w.FloatSlider(min=-300.0, max=300.0, step=1.0, readout_format=".0f",
-                                    description="charge [mC/m²]", **_slider())
-        self.stern = w.FloatText(description="Stern cond. [nS]", **_text())
+        self.zeta = honest(HonestFloatSlider(min=-200.0, max=200.0, step=1.0,
+                                             readout_format=".0f", description="ζ [mV]",
+                                             **_slider()), "zeta", "ζ", "mV")
+        self.charge = honest(HonestFloatSlider(min=-300.0, max=300.0, step=1.0,
+                                               readout_format=".0f",
+                                               description="charge σ [mC/m²]", **_slider()),
+                             "charge", "charge σ", "mC/m²")
+        self.stern = honest(HonestFloatText(description="Stern cond. [nS]", **_text()),
+                            "stern", "Stern cond.", "nS")
         # channel
         self.shape = w.Dropdown(options=listed_shapes(), description="shape", **_text())
         lo, hi = SIZE_RANGE
-        self.size = w.FloatLogSlider(base=10, min=_log10(lo * 1e6), max=_log10(hi * 1e6),
-                                     step=0.02, readout_format=".3g",
-                                     description="size [µm]", **_slider())
+        self.size = honest(HonestFloatLogSlider(base=10, min=_log10(lo * 1e6),
+                                                max=_log10(hi * 1e6), step=0.02,
+                                                readout_format=".3g",
+                                                description="size [µm]", **_slider()),
+                           "size", "size", "µm", log=True)
+        self.width = honest(HonestFloatLogSlider(base=10, min=-2, max=5, step=0.02,
+                                                 readout_format=".3g",
+                                                 description="slit width [µm]", **_slider()),
+                            "width", "slit width", "µm", log=True)
+        self.width.tooltip = "width of the slit (its depth is the gap); whole-channel figures"
         self.extra_box = w.VBox([])
         self.extra = {}
         self.model = w.ToggleButtons(options=list(State.MODELS), description="model",
                                      style={"button_width": "52px"})
-        self.length = w.FloatLogSlider(base=10, min=-2, max=3, step=0.05, readout_format=".3g",
-                                       description="length [mm]", **_slider())
-        self.voltage = w.FloatText(description="voltage [V]", **_text())
-        self.pressure = w.FloatText(description="pressure drop [kPa]", **_text())
+        self.length = honest(HonestFloatLogSlider(base=10, min=-2, max=3, step=0.05,
+                                                  readout_format=".3g",
+                                                  description="length [mm]", **_slider()),
+                             "length", "length", "mm", log=True)
+        self.voltage = honest(HonestFloatText(description="voltage [V]", **_text()),
+                              "voltage", "voltage", "V")
+        self.pressure = honest(HonestFloatText(description="pressure drop [kPa]", **_text()),
+                               "pressure", "pressure drop", "kPa")
+        self.channels = honest(HonestIntText(description="parallel channels", **_text()),
+                               "channels", "parallel channels", "")
+        self.max_pressure = honest(HonestFloatText(description="max. pressure [kPa]",
+                                                   **_text()),
+                                   "max_pressure", "max. pressure", "kPa")
+        self.max_voltage = honest(HonestFloatText(description="max. voltage [V]", **_text()),
+                                  "max_voltage", "max. voltage", "V")
+        self.max_pressure.tooltip = "pressure rating of the chip and its fittings"
+        self.max_voltage.tooltip = "highest voltage the supply (and the lab's rules) allow"
 
         L = self.links.append
         L(_link(self.salt, s, "salt"))
@@ -203,11 +378,15 @@ class SetupControls:
         L(_link(self.length, s, "length", lambda v: v * 1e-3, lambda v: v * 1e3))
         L(_link(self.voltage, s, "voltage"))
         L(_link(self.pressure, s, "pressure_drop", lambda v: v * 1e3, lambda v: v * 1e-3))
+        L(_link(self.width, s, "width", lambda v: v * 1e-6, lambda v: v * 1e6))
+        L(_link(self.channels, s, "channels"))
+        L(_link(self.max_pressure, s, "max_pressure", lambda v: v * 1e3, lambda v: v * 1e-3))
+        L(_link(self.max_voltage, s, "max_voltage"))
 
         self.size.observe(self._size_from_widget, "value")
         s.observe(self._params_from_state, "shape_params")
         s.observe(self._shape_from_state, "shape")
-        s.observe(self._visibility, ["salt", "wall_mode"])
+        s.observe(self._visibility, ["salt", "wall_mode", "shape"])
         self._busy_sync = False
         self._build_extra()
         self._params_from_state()
@@ -215,14 +394,22 @@ class SetupControls:
 
         rows = [section_title("Electrolyte"), self.salt, self.valence, self.concentration,
                 self.temperature, section_title("Wall"), self.wall_mode, self.zeta, self.charge,
-                self.stern, section_title("Channel"), self.shape, self.size, self.extra_box]
+                self.stern, section_title("Channel"), self.shape, self.size, self.width,
+                self.extra_box]
         if include_model:
             rows += [self.model]
         if include_drive:
             rows += [section_title("Channel length and driving"), self.length, self.voltage,
                      self.pressure]
+        if include_device:
+            rows += [section_title("Device"), self.channels, self.max_pressure,
+                     self.max_voltage]
         self.stern.tooltip = "surface conductance of the Stern layer [nS]"
         self.widget = w.VBox(rows, layout=w.Layout(width="345px", min_width="345px"))
+
+    def _reject(self, message):
+        for f in self.rejections:
+            f(message)
 
     # -- shape parameters -------------------------------------------------------
     def _build_extra(self):
@@ -232,6 +419,7 @@ class SetupControls:
         self.size.description = (f"{cls.parameter_info[size_name].label} [µm]"
                                  if cls else "size [µm]")
         self.size.tooltip = self.size.description
+        self.size._h_name = cls.parameter_info[size_name].label if cls else "size"
         for p in (cls.parameters if cls else ()):
             if p == size_name:
                 continue
@@ -239,20 +427,27 @@ class SetupControls:
             if info.kind == "length":
                 lo = max(info.minimum, SIZE_RANGE[0]) * 1e6
                 hi = min(info.maximum, SIZE_RANGE[1]) * 1e6
-                wid = w.FloatLogSlider(base=10, min=_log10(lo), max=_log10(hi), step=0.02,
-                                       readout_format=".3g", description=f"{info.label} [µm]",
-                                       **_slider())
+                wid = HonestFloatLogSlider(base=10, min=_log10(lo), max=_log10(hi), step=0.02,
+                                           readout_format=".3g",
+                                           description=f"{info.label} [µm]", **_slider())
+                wid.setup_honest(info.label, "µm", (max(info.minimum, ek.channels.SIZE_MIN)
+                                                    * 1e6, info.maximum * 1e6, False),
+                                 self._reject, log=True)
                 scale = 1e-6
             elif info.kind == "angle":
-                wid = w.FloatSlider(min=info.minimum, max=info.maximum, step=0.5,
-                                    readout_format=".1f", description=f"{info.label} [°]",
-                                    **_slider())
+                wid = HonestFloatSlider(min=info.minimum, max=info.maximum, step=0.5,
+                                        readout_format=".1f", description=f"{info.label} [°]",
+                                        **_slider())
+                wid.setup_honest(info.label, "°", (info.minimum, info.maximum, False),
+                                 self._reject)
                 scale = 1.0
             else:
-                wid = w.FloatSlider(min=info.minimum, max=info.maximum,
-                                    step=(info.maximum - info.minimum) / 200,
-                                    readout_format=".3g", description=f"{info.label} [-]",
-                                    **_slider())
+                wid = HonestFloatSlider(min=info.minimum, max=info.maximum,
+                                        step=(info.maximum - info.minimum) / 200,
+                                        readout_format=".3g",
+                                        description=f"{info.label} [-]", **_slider())
+                wid.setup_honest(info.label, "", (info.minimum, info.maximum, False),
+                                 self._reject)
                 scale = 1.0
             wid.tooltip = wid.description
             wid.observe(lambda ch, p=p, scale=scale: self._param_from_widget(p, ch, scale),
@@ -293,6 +488,7 @@ class SetupControls:
         zeta = self.state.wall_mode == "zeta"
         self.zeta.layout.display = None if zeta else "none"
         self.charge.layout.display = "none" if zeta else None
+        self.width.layout.display = None if self.state.shape == "Slit" else "none"
 
 
 def _log10(x):
@@ -302,29 +498,53 @@ def _log10(x):
 
 class Worker:
     """Runs a computation now (1D shapes) or on a thread (2D sections, slow),
-    and hands only the newest result to the view."""
+    and hands only the newest result to the view.
+
+    A computation may come in stages (``submit_stages``): the matrix first,
+    the fields after. Work for an input that a newer one has replaced is
+    dropped at the next stage boundary, and one computation runs at a time
+    (the machine's cores are not shared between stale and fresh work).
+    """
 
     def __init__(self):
         import threading
         self._lock = threading.Lock()
+        self._run_lock = threading.Lock()
         self.generation = 0
         self.thread = None
+        self.dropped = 0          # stages skipped because a newer input arrived
 
     def submit(self, fn, done, fail, background=False):
+        self.submit_stages([(lambda _: fn(), done)], fail, background)
+
+    def submit_stages(self, stages, fail, background=False):
+        """``stages``: [(compute(previous output) -> out, show(out)), ...]."""
         import threading
         with self._lock:
             self.generation += 1
             gen = self.generation
 
         def run():
-            try:
-                out = fn()
-            except Exception as exc:   # reported in the status area, never raised
-                if gen == self.generation:
-                    fail(exc)
-                return
-            if gen == self.generation:
-                done(out)
+            with self._run_lock:
+                out = None
+                for compute_fn, show in stages:
+                    if gen != self.generation:
+                        self.dropped += 1
+                        return
+                    try:
+                        out = compute_fn(out)
+                    except Exception as exc:   # reported in the status area, never raised
+                        if gen == self.generation:
+                            fail(exc)
+                        return
+                    if gen != self.generation:
+                        self.dropped += 1
+                        return
+                    try:
+                        show(out)
+                    except Exception as exc:   # never a traceback on the dashboard
+                        fail(exc)
+                        return
 
         if background:
             self.thread = threading.Thread(target=run, name="ekexplore-compute", daemon=True)
@@ -333,7 +553,7 @@ class Worker:
             run()
 
     def wait(self, timeout=300):
-        """Wait for a background computation (tests, scripts)."""
+        """Wait for the newest background computation (tests, scripts)."""
         t = self.thread
         if t is not None:
             t.join(timeout)
@@ -347,8 +567,13 @@ class ViewUpdates:
     shown = "plots"
 
     def _fail(self, exc):
-        self.error = error_text(exc)
+        self.error = error_text(exc, getattr(self, "state", None))
         self.status.error(self.error + f" — the {self.shown} show the last valid input.")
+
+    def _rejected(self, message):
+        """A typed value the controls refused (the state did not change)."""
+        self.error = message
+        self.status.error(message + f" — the {self.shown} show the last valid input.")
 
     def _ok_text(self, result):
         return "up to date"
@@ -365,8 +590,64 @@ class ViewUpdates:
         self.status.ok(self._ok_text(result))
 
 
-def error_text(exc):
-    """A readable one-line message for a failed computation."""
+#: library parameter name -> (screen label, factor from SI, screen unit)
+SCREEN_NAMES = {
+    "zeta": ("ζ", 1e3, "mV"),
+    "charge_density": ("charge σ", 1e3, "mC/m²"),
+    "stern_conductance": ("Stern cond.", 1e9, "nS"),
+    "concentration": ("salt conc.", 1.0, "mM"),
+    "concentrations": ("salt conc.", 1.0, "mM"),
+    "temperature": ("temperature", None, "°C"),
+    "length": ("length", 1e3, "mm"),
+    "width": ("width", 1e6, "µm"),
+}
+
+_RANGE_MSG = re.compile(
+    r"^(?P<name>[A-Za-z_*]+) = (?P<value>\S+) (?P<unit>\S+) is outside the allowed range "
+    r"(?P<left>[\[(])(?P<lo>\S+), (?P<hi>[^\])]+)(?P<right>[\])]) ?\S*(?P<rest>.*)$")
+
+
+def _screen_value(x, factor):
+    v = float(x)
+    return v - 273.15 if factor is None else v * factor
+
+
+def screen_words(message, state=None):
+    """A library ValueError message in the screen's words and units
+    ("zeta = -0.999 V is outside ..." -> "ζ -999 mV is outside ... mV")."""
+    names = dict(SCREEN_NAMES)
+    if state is not None and state.shape in ek.channels.SHAPES:
+        cls = ek.channels.SHAPES[state.shape]
+        for p in cls.parameters:
+            info = cls.parameter_info.get(p)
+            if info is not None and info.kind == "length":
+                names[p] = (info.label, 1e6, "µm")
+    if message.startswith("kappa*half_size"):
+        m = re.match(r"kappa\*half_size = (\S+)", message)
+        ka = m.group(1) if m else "?"
+        return (f"κ·a = {ka} is outside the range the solver covers (0.001 to 100000): the "
+                "channel is too narrow or too wide for the Debye length; change the size or "
+                "the salt conc.")
+    m = _RANGE_MSG.match(message)
+    if not m or m.group("name") not in names:
+        return message
+    label, factor, unit = names[m.group("name")]
+    try:
+        v = _screen_value(m.group("value"), factor)
+        lo = m.group("lo")
+        hi = m.group("hi")
+        lo_s = lo if lo in ("-inf", "inf") else f"{_screen_value(lo, factor):.4g}"
+        hi_s = hi if hi in ("-inf", "inf") else f"{_screen_value(hi, factor):.4g}"
+    except ValueError:
+        return message
+    rest = m.group("rest").strip()
+    rest = rest[1:].strip() if rest.startswith(";") else rest
+    out = f"{label} {v:.4g} {unit}: enter a value from {lo_s} to {hi_s} {unit}"
+    return out + (f" ({rest})" if rest else "")
+
+
+def error_text(exc, state=None):
+    """A readable one-line message for a failed computation, in screen words."""
     if isinstance(exc, (ValueError, ArithmeticError)):
-        return str(exc)
+        return screen_words(str(exc), state)
     return f"could not compute ({type(exc).__name__}): {exc}"

@@ -14,9 +14,11 @@ from scipy import constants
 
 import ekexplore as ek
 
+from . import units as U
 from .units import eng, num
 
-__all__ = ["Explored", "explore", "verdict", "matrix_csv", "profiles_csv"]
+__all__ = ["Explored", "explore", "explore_matrix", "explore_fields", "verdict", "matrix_csv",
+           "profiles_csv", "field_images"]
 
 
 def scalar(x):
@@ -77,24 +79,148 @@ def curves(prof):
                   debye_length=scalar(prof.debye_length), wall=float(np.max(x)))
 
 
-def field_images(prof, n=140):
-    """Images of a 2D section's fields on a regular grid, and two cuts."""
+#: Rasterisations of recent meshes: digest -> (triangle per point, weights)
+_RASTERS: dict = {}
+
+
+def _raster(px, py, tris, ox, oy, dx, dy, nx, ny):
+    """Locate the points of a regular lattice (ox + i dx, oy + j dy), i < nx,
+    j < ny, in a triangle mesh: for each lattice point the index of a triangle
+    holding it (or -1) and its barycentric weights.
+
+    Every triangle is matched with the lattice points inside its bounding box
+    (a vectorised scan), so no point inside the mesh is missed.
+    """
+    T = np.asarray(tris)
+    X = (px[T] - ox) / dx          # (nt, 3) in lattice units
+    Y = (py[T] - oy) / dy
+    i0 = np.clip(np.ceil(X.min(1) - 1e-9), 0, nx).astype(np.int64)
+    i1 = np.clip(np.floor(X.max(1) + 1e-9), -1, nx - 1).astype(np.int64)
+    j0 = np.clip(np.ceil(Y.min(1) - 1e-9), 0, ny).astype(np.int64)
+    j1 = np.clip(np.floor(Y.max(1) + 1e-9), -1, ny - 1).astype(np.int64)
+    wi = np.maximum(i1 - i0 + 1, 0)
+    wj = np.maximum(j1 - j0 + 1, 0)
+    cnt = wi * wj
+    t = np.repeat(np.arange(len(T)), cnt)
+    start = np.repeat(np.cumsum(cnt) - cnt, cnt)
+    k = np.arange(int(cnt.sum())) - start
+    i = i0[t] + k % wi[t]
+    j = j0[t] + k // wi[t]
+    xa, ya = X[t, 0], Y[t, 0]
+    v0x, v0y = X[t, 1] - xa, Y[t, 1] - ya
+    v1x, v1y = X[t, 2] - xa, Y[t, 2] - ya
+    qx, qy = i - xa, j - ya
+    den = v0x * v1y - v0y * v1x
+    den = np.where(den == 0, np.inf, den)
+    l1 = (qx * v1y - qy * v1x) / den
+    l2 = (v0x * qy - v0y * qx) / den
+    l0 = 1.0 - l1 - l2
+    tol = 1e-9
+    ok = (l0 >= -tol) & (l1 >= -tol) & (l2 >= -tol)
+    flat = (j * nx + i)[ok]
+    tri = np.full(nx * ny, -1, dtype=np.int64)
+    lam = np.zeros((nx * ny, 3))
+    tri[flat] = t[ok]
+    lam[flat] = np.stack([l0[ok], l1[ok], l2[ok]], 1)
+    return tri, lam
+
+
+def _rasterise(prof, ox, oy, dx, dy, nx, ny):
+    """_raster for a profile's mesh, remembered for the last few meshes."""
+    import hashlib
+    h = hashlib.blake2b(digest_size=16)
+    for a in (prof.x, prof.y, np.asarray(prof.triangles), np.array([ox, oy, dx, dy, nx, ny])):
+        h.update(np.ascontiguousarray(a).tobytes())
+    key = h.hexdigest()
+    hit = _RASTERS.get(key)
+    if hit is None:
+        hit = _raster(np.asarray(prof.x, float), np.asarray(prof.y, float), prof.triangles,
+                      ox, oy, dx, dy, nx, ny)
+        _RASTERS[key] = hit
+        while len(_RASTERS) > 16:
+            _RASTERS.pop(next(iter(_RASTERS)))
+    return hit
+
+
+IMAGE_FIELDS = ("potential", "velocity_electroosmotic", "velocity_pressure", "charge_density")
+
+
+def field_images(prof, n=160):
+    """Images of a 2D section's fields, one value per pixel, and two cuts.
+
+    The image spans the section's bounding box exactly; pixels are square
+    (nx/ny follows the aspect ratio, at least 24 on the short side). Each
+    pixel takes the linear interpolation of the nodal fields at its centre;
+    a pixel whose centre falls just outside the meshed polygon but which
+    touches the section (a corner inside) takes its nearest node's value, so
+    the whole cross-section is filled; pixels wholly outside stay NaN
+    (transparent).
+    """
     if not hasattr(prof, "on_grid"):
         return None
-    W = float(np.ptp(prof.x))
-    H = float(np.ptp(prof.y))
-    nx = n if W >= H else max(24, int(round(n * W / H)))
-    ny = n if H > W else max(24, int(round(n * H / W)))
-    g = prof.on_grid(nx, ny)
+    from scipy.spatial import cKDTree
+    x, y = np.asarray(prof.x, float), np.asarray(prof.y, float)
+    x0, y0 = float(x.min()), float(y.min())
+    W, H = float(np.ptp(x)), float(np.ptp(y))
+    if W >= H:
+        nx, ny = n, max(24, int(round(n * H / W)))
+    else:
+        nx, ny = max(24, int(round(n * W / H))), n
+    dx, dy = W / nx, H / ny
+    T = np.asarray(prof.triangles)
+    # pixel centres, and pixel corners (an (nx+1) x (ny+1) lattice)
+    tri, lam = _rasterise(prof, x0 + dx / 2, y0 + dy / 2, dx, dy, nx, ny)
+    ctri, _ = _rasterise(prof, x0, y0, dx, dy, nx + 1, ny + 1)
+    inside = tri >= 0
+    cin = (ctri >= 0).reshape(ny + 1, nx + 1)
+    touching = (cin[:-1, :-1] | cin[1:, :-1] | cin[:-1, 1:] | cin[1:, 1:]).ravel() & ~inside
+    nodes = T[np.where(inside, tri, 0)]
+    imgs = {}
+    for k in IMAGE_FIELDS:
+        v = np.asarray(getattr(prof, k), float)
+        imgs[k] = np.where(inside, np.sum(v[nodes] * lam, axis=1), np.nan)
+    if np.any(touching):
+        xc = x0 + (np.arange(nx) + 0.5) * dx
+        yc = y0 + (np.arange(ny) + 0.5) * dy
+        Xc, Yc = np.meshgrid(xc, yc)
+        q = np.stack([Xc.ravel()[touching], Yc.ravel()[touching]], 1)
+        _, j = cKDTree(np.stack([x, y], 1)).query(q)
+        for k in IMAGE_FIELDS:
+            imgs[k][touching] = np.asarray(getattr(prof, k), float)[j]
+    # magnitude images for the log colour scale: the largest |value| of the
+    # mesh nodes inside each pixel (a double layer thinner than a pixel still
+    # shows at the wall), else the interpolated value
+    ix = np.clip(((x - x0) / dx).astype(np.int64), 0, nx - 1)
+    iy = np.clip(((y - y0) / dy).astype(np.int64), 0, ny - 1)
+    flat = iy * nx + ix
+    peaks = {}
+    for k in IMAGE_FIELDS:
+        pk = np.abs(imgs[k])
+        node_max = np.zeros(nx * ny)
+        np.maximum.at(node_max, flat, np.abs(np.asarray(getattr(prof, k), float)))
+        peaks[k] = np.where(np.isfinite(pk), np.maximum(pk, node_max), np.nan).reshape(ny, nx)
     normal = prof.wall_normal(n=50)
     centre = prof.centreline()
-    return dict(x0=float(g["x"][0]), y0=float(g["y"][0]), width=W, height=H,
-                potential=np.asarray(g["potential"], dtype=float),
-                velocity_electroosmotic=np.asarray(g["velocity_electroosmotic"], dtype=float),
-                velocity_pressure=np.asarray(g["velocity_pressure"], dtype=float),
-                charge_density=np.asarray(g["charge_density"], dtype=float),
+    return dict(x0=x0, y0=y0, width=W, height=H, nx=nx, ny=ny,
+                **{k: imgs[k].reshape(ny, nx) for k in IMAGE_FIELDS},
+                magnitude={k: peaks[k] for k in IMAGE_FIELDS},
                 normal=(np.asarray(normal["x"], dtype=float), np.asarray(normal["y"], dtype=float)),
                 centre=dict((k, np.asarray(v, dtype=float)) for k, v in centre.items()))
+
+
+#: Relative error above which a forced model is said to be outside its range
+#: (the tolerance ``auto`` uses by default in ``ek.solve``).
+MODEL_TOL = 0.01
+
+
+@dataclass
+class Accuracy:
+    """How far the shown model is from the full (pb) model, in words and numbers."""
+
+    error: float            # relative error [-] (measured against pb, or estimated)
+    how: str                # "measured against pb" | "estimated against pb" | "pb numerical"
+    forced: bool            # the user forced a simplified model
+    out_of_range: str = ""  # a warning when a forced model misses MODEL_TOL
 
 
 @dataclass
@@ -102,6 +228,7 @@ class Explored:
     """Everything the explorer shows for one state."""
 
     result: object                  # ek.solve at the chosen model
+    reference: object               # pb result (1D shapes), else the shown result
     thin: object                    # ek.solve at model="thin" (for the verdict)
     profiles: object                # result.profiles(G, E)
     pressure_gradient: float        # -dp/dx [Pa/m] used for the profiles
@@ -110,75 +237,220 @@ class Explored:
     conductances: dict              # whole channel, SI
     model: str
     verdict: str
+    accuracy: Accuracy | None = None
+    problems: list = field(default_factory=list)   # impossible values, in words
     derived: list = field(default_factory=list)   # (name, value text, meaning)
     curves: Curves | None = None
     images: dict | None = None
 
 
-def explore(state):
-    """Solve at the state's inputs; raises ValueError for bad inputs."""
+def matrix_error(m, ref):
+    """Largest relative difference of two coupling matrices [-].
+
+    Diagonal entries relative to themselves; off-diagonals relative to
+    sqrt(L11 L22) of the reference, so that an uncharged wall (zero
+    off-diagonals) still gives a finite, meaningful figure.
+    """
+    m = np.asarray(m, dtype=float).reshape(2, 2)
+    ref = np.asarray(ref, dtype=float).reshape(2, 2)
+    scale = np.array([[abs(ref[0, 0]), np.sqrt(abs(ref[0, 0] * ref[1, 1]))],
+                      [np.sqrt(abs(ref[0, 0] * ref[1, 1])), abs(ref[1, 1])]])
+    return float(np.max(np.abs(m - ref) / scale))
+
+
+def estimated_error(r, state):
+    """The a-priori error estimate of the thin or dh model at this point [-]
+    (``ek.estimated_model_errors``), for results whose own estimate is 0."""
+    el = state.electrolyte()
+    z = np.asarray(el.valences, dtype=float)
+    c = np.asarray(el.concentrations, dtype=float).reshape(len(z))
+    VT = constants.k * scalar(r.temperature) / constants.e
+    geometry = {"slit": "slit", "tube": "tube"}.get(ek.channels.SHAPES[state.shape].kind,
+                                                   "section")
+    est = ek.estimated_model_errors(scalar(r.kappa_size), scalar(r.wall_potential) / VT,
+                                    valences=tuple(int(v) for v in z), geometry=geometry,
+                                    condition="potential" if state.wall_mode == "zeta"
+                                    else "charge",
+                                    weights=(c / np.sum(z**2 * c)).reshape(-1))
+    return float(np.asarray(est[text(r.model)]).reshape(-1)[0])
+
+
+def accuracy(r, ref, state):
+    """Error of the shown model against pb: measured when ``ref`` is a pb
+    result (1D shapes), else estimated; never a model compared with itself."""
+    model = text(r.model)
+    forced = state.model in ("thin", "dh")
+    if model == "pb":
+        return Accuracy(scalar(r.error_estimate), "numerical estimate of pb", forced)
+    if ref is not None and text(ref.model) == "pb":
+        err, how = matrix_error(r.matrix, ref.matrix), "measured against pb"
+    else:
+        own = scalar(r.error_estimate)
+        err, how = max(own, estimated_error(r, state)), "estimated against pb"
+    acc = Accuracy(err, how, forced)
+    if forced and err > MODEL_TOL:
+        acc.out_of_range = (
+            f"The {model} model is outside its range here (κ·a = {num(scalar(r.kappa_size))}, "
+            f"|ζ| = {num(abs(scalar(r.wall_potential)) * 1e3)} mV): its error against pb is "
+            f"{U.percent(err, 2)}, above {U.percent(MODEL_TOL, 2)}. Use pb or auto.")
+    return acc
+
+
+def impossible(r):
+    """Impossible derived values of a result, in words (empty when all is well):
+    a counter-ion share outside 0-100 %, a coupling degree or an efficiency
+    above 100 %."""
+    out = []
+    share = scalar(r.counterion_share)
+    q2 = scalar(r.coupling_degree)
+    eff = scalar(r.max_efficiency)
+    if not 0.0 <= share <= 1.0 + 1e-9:
+        out.append("a counter-ion share outside 0–100 %")
+    if q2 > 1.0 + 1e-9 or q2 < -1e-9:
+        out.append("a coupling degree q² outside 0–1")
+    if eff > 1.0 + 1e-9:
+        out.append("an efficiency above 100 %")
+    return out
+
+
+def explore_matrix(state):
+    """The coupling matrix and everything read from it (verdict, accuracy,
+    derived quantities): the fast first stage of an update. Raises ValueError
+    for bad inputs."""
     r = state.solve()
-    thin = r if state.model == "thin" else state.solve("thin")
+    model = text(r.model)
+    if state.is_section:
+        ref = None          # a 2D pb solve per update would be slow: estimates instead
+    else:
+        ref = r if model == "pb" else state.solve("pb")
+    thin = r if model == "thin" else state.solve("thin")
     G = state.pressure_drop / state.length
     E = state.voltage / state.length
-    prof = r.profiles(pressure_gradient=G, field=E)
     matrix = np.asarray(r.matrix, dtype=float).reshape(2, 2)
     cond = {k: scalar(v) for k, v in r.conductances(state.length).items()}
-    return Explored(result=r, thin=thin, profiles=prof, pressure_gradient=G, field=E,
-                    matrix=matrix, conductances=cond, model=text(r.model),
-                    verdict=verdict(r, thin, state), derived=derived(r, state),
-                    curves=curves(prof), images=field_images(prof))
+    acc = accuracy(r, ref, state)
+    problems = impossible(r)
+    return Explored(result=r, reference=ref if ref is not None else r, thin=thin,
+                    profiles=None, pressure_gradient=G, field=E,
+                    matrix=matrix, conductances=cond, model=model,
+                    verdict=verdict(r, thin, state, ref, acc), accuracy=acc,
+                    problems=problems, derived=derived(r, state, problems))
+
+
+def explore_fields(ex):
+    """The second stage: profiles across the section, their curves and, for a
+    2D section, the field images. Fills ``ex`` in place and returns it."""
+    prof = ex.result.profiles(pressure_gradient=ex.pressure_gradient, field=ex.field)
+    ex.profiles = prof
+    ex.curves = curves(prof)
+    ex.images = field_images(prof)
+    return ex
+
+
+def explore(state):
+    """Both stages at the state's inputs; raises ValueError for bad inputs."""
+    return explore_fields(explore_matrix(state))
 
 
 def eo_overestimate(r, thin):
-    """Slip-model electroosmotic coefficient over the chosen model's [-]."""
-    return scalar(thin.electroosmotic) / scalar(r.electroosmotic)
+    """Slip-model electroosmotic coefficient over the given model's [-]
+    (NaN for an uncharged wall, where both are zero)."""
+    a, b = scalar(thin.electroosmotic), scalar(r.electroosmotic)
+    return a / b if b != 0.0 else float("nan")
 
 
-def verdict(r, thin, state):
-    """The regime in words, from the numbers on screen (``ek.regime_verdict``)."""
-    ratio = eo_overestimate(r, thin)
-    words = ek.regime_verdict(scalar(r.kappa_size), ratio, scalar(r.dukhin),
-                              scalar(r.counterion_share))
-    phi = abs(scalar(r.wall_potential)) / (constants.k * scalar(r.temperature) / constants.e)
+def verdict(r, thin, state, ref=None, acc=None):
+    """The regime in words, from the full model's numbers where there is one:
+    pb for slits and tubes; for a 2D section the shown model (pb or dh), and
+    the thin model's estimate when thin itself is shown."""
+    base = ref if ref is not None else r
+    ka = scalar(base.kappa_size)
+    if ka < 1:
+        parts = [f"double layers overlap: κ·a = {num(ka, 2)}"]
+    elif ka < 10:
+        parts = [f"double layers are thick: κ·a = {num(ka, 2)}"]
+    else:
+        parts = [f"thin double layers: κ·a = {num(ka)}"]
+    VT = constants.k * scalar(base.temperature) / constants.e
+    zeta = scalar(base.wall_potential)
+    if zeta == 0.0:
+        parts.append("uncharged wall (ζ = 0 mV): no electro-osmosis, no streaming current, "
+                     "no surface conduction")
+        return "; ".join(parts)
+    if text(base.model) == "thin":
+        err = acc.error if acc is not None else float("nan")
+        parts.append(f"the slip (Helmholtz–Smoluchowski) model is the one shown; its "
+                     f"estimated error against pb is {U.percent(err, 2)}")
+    else:
+        ratio = eo_overestimate(base, thin)
+        if abs(ratio - 1.0) > 0.05:
+            word = "overestimates" if ratio > 1 else "underestimates"
+            parts.append(f"the slip (Helmholtz–Smoluchowski) model {word} electro-osmotic "
+                         f"flow by {num(ratio, 2)}× (against {text(base.model)})")
+        else:
+            parts.append("the slip (Helmholtz–Smoluchowski) model holds within 5 % "
+                         f"(against {text(base.model)})")
+    du = scalar(base.dukhin)
+    if du > 1:
+        parts.append(f"surface conduction dominates (Du = {num(du, 2)})")
+    elif du > 0.1:
+        parts.append(f"surface conduction matters (Du = {num(du, 2)})")
+    share = scalar(base.counterion_share)
+    if 0.8 < share <= 1.0:
+        parts.append(f"perm-selective: counter-ions carry {share:.0%} of the current")
+    phi = abs(zeta) / VT
     if phi > 1:
-        words += f"; |zeta| = {num(phi, 2)} kT/e, beyond the linear (Debye-Hueckel) range"
-    return words
+        parts.append(f"|ζ| = {num(phi, 2)} kT/e, beyond the linear (Debye–Hückel) range")
+    return "; ".join(parts)
 
 
-def derived(r, state):
-    """(name, value with unit, one-line meaning) for each derived quantity."""
+def derived(r, state, problems=()):
+    """(name, value with unit, one-line meaning) for each derived quantity.
+    Impossible values (a share or an efficiency above 100 %) are not shown as
+    numbers: the row says why."""
     L = state.length
     cond = r.conductances(L)
+    model = text(r.model)
+
+    def checked(value_text, bad, limits):
+        if bad:
+            return f"not shown: {limits}, impossible ({model} model here)"
+        return value_text
+
+    share = scalar(r.counterion_share)
+    q2 = scalar(r.coupling_degree)
+    eff = scalar(r.max_efficiency)
+    q2_bad = q2 > 1.0 + 1e-9 or q2 < -1e-9
     rows = [
-        ("electroosmotic mobility",
-         f"{scalar(r.electroosmotic_mobility) * 1e8:.3g} µm·cm/(V·s)",
+        ("electroosmotic mobility", U.mobility(scalar(r.electroosmotic_mobility)),
          "mean flow speed per unit applied field"),
         ("streaming potential coefficient",
-         eng(scalar(r.streaming_potential_coefficient) * 1e3, "V") + " per kPa",
+         U.voltage(scalar(r.streaming_potential_coefficient) * 1e3) + " per kPa",
          "open-circuit voltage built up per unit pressure drop"),
-        ("streaming current (whole channel)",
-         eng(scalar(cond["current_per_pressure"]) * 1e3, "A") + " per kPa",
+        ("streaming current (one channel)",
+         U.current(scalar(cond["current_per_pressure"]) * 1e3) + " per kPa",
          "short-circuit current per unit pressure drop"),
-        ("electroviscous ratio", num(scalar(r.electroviscous_ratio), 6),
+        ("electroviscous ratio", checked(num(scalar(r.electroviscous_ratio), 6), q2_bad,
+                                         "below 1"),
          "apparent over true viscosity: the streaming potential slows pressure flow"),
-        ("Dukhin number", num(scalar(r.dukhin)),
+        ("Dukhin number Du", num(scalar(r.dukhin)),
          "surface over bulk conduction"),
-        ("coupling degree q²", num(scalar(r.coupling_degree)),
+        ("coupling degree q²", checked(num(q2), q2_bad, "outside 0–1"),
          "0: flow and current independent; 1: perfectly coupled"),
-        ("maximum efficiency", f"{scalar(r.max_efficiency) * 100:.3g} %",
+        ("maximum efficiency", checked(U.percent(eff), eff > 1.0 + 1e-9 or q2_bad, "above 100 %"),
          "best electrical-to-mechanical (or back) energy conversion"),
-        ("counter-ion share", f"{scalar(r.counterion_share) * 100:.3g} %",
+        ("counter-ion share", checked(U.percent(share), not 0.0 <= share <= 1.0 + 1e-9,
+                                      "outside 0–100 %"),
          "fraction of the conduction current carried by counter-ions"),
-        ("Debye length", eng(scalar(r.debye_length), "m"),
+        ("Debye length λ_D", U.length(scalar(r.debye_length)),
          "thickness of the diffuse charge layer"),
         ("κ·a", num(scalar(r.kappa_size)),
-         "channel half-size in Debye lengths"),
-        ("wall potential", eng(scalar(r.wall_potential), "V"),
-         "potential at the shear plane (ζ)"),
-        ("wall charge", f"{scalar(r.wall_charge) * 1e3:.3g} mC/m²",
+         "channel half-size a over the Debye length"),
+        ("wall potential ζ", U.potential(scalar(r.wall_potential)),
+         "potential at the shear plane"),
+        ("wall charge σ", U.charge_density(scalar(r.wall_charge)),
          "surface charge balancing the diffuse layer"),
-        ("bulk conductivity", f"{scalar(r.bulk_conductivity) * 10:.3g} mS/cm",
+        ("bulk conductivity", U.conductivity(scalar(r.bulk_conductivity)),
          "conductivity of the reservoir electrolyte"),
         ("reciprocity residual", num(scalar(r.reciprocity_residual), 2),
          "mismatch of streaming and electroosmotic coefficients (Onsager check)"),
@@ -270,10 +542,14 @@ def _layers(state, concentration, size, zeta=None):
     thin = state.solve("thin", **kw)
     dh = state.solve("dh", **kw)
     ref = np.asarray(pb.electroosmotic, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):   # an uncharged wall: NaN, grey
+        layers = {
+            "eo_fraction": ref / np.asarray(thin.electroosmotic, dtype=float),
+            "thin_error": np.abs(np.asarray(thin.electroosmotic) - ref) / np.abs(ref),
+            "dh_error": np.abs(np.asarray(dh.electroosmotic) - ref) / np.abs(ref),
+        }
     return {
-        "eo_fraction": ref / np.asarray(thin.electroosmotic, dtype=float),
-        "thin_error": np.abs(np.asarray(thin.electroosmotic) - ref) / np.abs(ref),
-        "dh_error": np.abs(np.asarray(dh.electroosmotic) - ref) / np.abs(ref),
+        **layers,
         "dukhin": np.asarray(pb.dukhin, dtype=float),
         "counterion_share": np.asarray(pb.counterion_share, dtype=float),
         "kappa_size": np.asarray(pb.kappa_size, dtype=float),
@@ -340,10 +616,12 @@ def map_kappa_zeta(state, n=36, phi_max=8.0):
 # ---------------------------------------------------------------------------
 @dataclass
 class Device:
-    """Whole-channel figures of a device at the state's length, voltage, pressure."""
+    """Whole-device figures (``channels`` identical channels in parallel) at the
+    state's length, voltage and pressure drop, SI units."""
 
     result: object
-    conductances: dict            # SI
+    channels: int
+    conductances: dict            # whole device (all channels), SI
     flow: float                   # Q [m^3/s]
     current: float                # I [A]
     power: float                  # V I [W]
@@ -356,25 +634,29 @@ class Device:
     load_power: np.ndarray        # [W]
     load_efficiency: np.ndarray   # [-]
     best_load: float              # load of maximum efficiency [ohm]
+    problems: list = field(default_factory=list)   # impossible values, in words
+    warnings: list = field(default_factory=list)   # ratings exceeded, in words
 
 
 def device(state, n_load=121):
-    """Flow, current and power of the channel; pump and generator curves.
+    """Flow, current and power of the device; pump and generator curves.
 
-    Whole channel (Q = a dp + b V, I = c dp + g V with the conductances of
-    ``Result.conductances``). Generator: the pressure drop drives the channel
-    into a load R; the current I = c dp + g V returns through R, so
-    V = -c dp R / (1 + g R), load power V^2/R and efficiency
-    V^2/R / (Q dp).
+    The device is ``state.channels`` identical channels in parallel, so every
+    conductance is N times one channel's (``Result.conductances``):
+    Q = a dp + b V, I = c dp + g V. Generator: the pressure drop drives the
+    device into a load R; the current I = c dp + g V returns through R, so
+    V = -c dp R / (1 + g R), load power V^2/R and efficiency V^2/R / (Q dp).
     """
     r = state.solve()
-    c = {k: scalar(v) for k, v in r.conductances(state.length).items()}
+    N = int(state.channels)
+    c = {k: N * scalar(v) for k, v in r.conductances(state.length).items()}
     a, b, cc, g = (c["flow_per_pressure"], c["flow_per_volt"], c["current_per_pressure"],
                    c["conductance"])
     dp, V = state.pressure_drop, state.voltage
     Q = a * dp + b * V
     I = cc * dp + g * V
-    stall, free = (scalar(x) for x in r.pump_limits(V, state.length))
+    stall = b * V / a          # back-pressure at which Q = 0 [Pa]
+    free = b * V               # flow at zero back-pressure [m^3/s]
     Rc = 1.0 / g
     R = Rc * np.logspace(-3, 3, n_load)
     Vl = -cc * dp * R / (1.0 + g * R)
@@ -384,7 +666,22 @@ def device(state, n_load=121):
         eff = np.where(Ql * dp > 0, Pl / (Ql * dp), 0.0)
     q2 = scalar(r.coupling_degree)
     best = Rc / np.sqrt(max(1.0 - q2, 1e-300))
-    return Device(result=r, conductances=c, flow=Q, current=I, power=V * I,
+    problems = impossible(r)
+    if np.any(eff > 1.0 + 1e-9) and "an efficiency above 100 %" not in problems:
+        problems.append("an efficiency above 100 %")
+    warnings = []
+    if abs(V) > state.max_voltage:
+        warnings.append(f"the voltage {U.voltage(V)} is above the maximum you set, "
+                        f"{U.voltage(state.max_voltage)}")
+    if abs(dp) > state.max_pressure:
+        warnings.append(f"the pressure drop {U.pressure(dp)} is above the maximum you set, "
+                        f"{U.pressure(state.max_pressure)}")
+    if abs(stall) > state.max_pressure:
+        warnings.append(f"a closed outlet would build {U.pressure(abs(stall))}, above the "
+                        f"maximum pressure {U.pressure(state.max_pressure)}: keep the outlet "
+                        "open or lower the voltage")
+    return Device(result=r, channels=N, conductances=c, flow=Q, current=I, power=V * I,
                   stall_pressure=stall, free_flow=free, streaming_voltage=-cc * dp / g,
                   streaming_current=cc * dp, max_efficiency=scalar(r.max_efficiency),
-                  load=R, load_power=Pl, load_efficiency=eff, best_load=best)
+                  load=R, load_power=Pl, load_efficiency=eff, best_load=best,
+                  problems=problems, warnings=warnings)

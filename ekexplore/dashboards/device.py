@@ -8,30 +8,32 @@ import ipywidgets as w
 import numpy as np
 
 from . import compute
-from .common import (CSS, PALETTE, SAFETY_NOTE, SetupControls, Status, ViewUpdates, Worker,
+from .common import (CSS, PALETTE, SAFETY_NOTE, CodeExport, SetupControls, Status, ViewUpdates, Worker,
                      bokeh_widget, new_figure)
 from .state import State
-from .units import eng, num
+from . import units as U
+from .units import eng, prefix_scale
 
 __all__ = ["DeviceView"]
 
 TITLE = "ekexplore — device calculator"
-LPM = 6e7   # m^3/s -> L/min
 
 
 def readout_html(d, state):
+    eff_bad = bool(d.problems)
     rows = [
-        ("flow rate Q", eng(d.flow * LPM, "L/min"), "net flow at this voltage and pressure drop"),
-        ("current I", eng(d.current, "A"), "electric current through the channel"),
-        ("electrical power V·I", eng(d.power, "W"), "dissipated as Joule heat in the channel"),
-        ("EO free flow", eng(d.free_flow * LPM, "L/min"), "pump flow at zero back-pressure"),
-        ("EO stall pressure", eng(d.stall_pressure, "Pa"),
+        ("flow rate Q", U.flow(d.flow), "net flow at this voltage and pressure drop"),
+        ("current I", U.current(d.current), "electric current through the device"),
+        ("electrical power V·I", U.power(d.power), "dissipated as Joule heat in the channels"),
+        ("EO free flow", U.flow(d.free_flow), "pump flow at zero back-pressure"),
+        ("EO stall pressure", U.pressure(d.stall_pressure),
          "back-pressure at which the pump stops"),
-        ("streaming voltage", eng(d.streaming_voltage, "V"),
+        ("streaming voltage", U.voltage(d.streaming_voltage),
          "open-circuit voltage the pressure drop builds"),
-        ("streaming current", eng(d.streaming_current, "A"),
+        ("streaming current", U.current(d.streaming_current),
          "short-circuit current the pressure drop drives"),
-        ("maximum efficiency", f"{d.max_efficiency * 100:.3g} %",
+        ("maximum efficiency",
+         "not shown: impossible here" if eff_bad else U.percent(d.max_efficiency),
          f"as a generator, at load {eng(d.best_load, 'Ω')}"),
     ]
     cells = [f"<td class='l' title='{html.escape(c)}'>{html.escape(a)}</td>"
@@ -39,12 +41,35 @@ def readout_html(d, state):
     half = (len(cells) + 1) // 2
     body = "".join(f"<tr>{cells[i]}{cells[i + half] if i + half < len(cells) else ''}</tr>"
                    for i in range(half))
-    note = " (slit: per metre of width)" if state.shape == "Slit" else ""
-    return (f"<div class='ekx-small'>Channel of length {eng(state.length, 'm')}, "
-            f"ΔV = {num(state.voltage)} V, Δp = {num(state.pressure_drop / 1e3)} kPa; "
-            f"model {html.escape(compute.text(d.result.model))}{note}. "
-            "Hover a figure for its meaning.</div>"
-            f"<table class='ekx-table'>{body}</table>")
+    what = (f"{d.channels} identical channel{'s' if d.channels != 1 else ''} in parallel, "
+            f"each {U.length(state.length)} long")
+    if state.shape == "Slit":
+        what += f" and {U.length(state.width)} wide"
+    warn = ""
+    if d.problems:
+        warn += ("<div class='ekx-warn'>⚠ Impossible result with the "
+                 f"{html.escape(compute.text(d.result.model))} model here: "
+                 f"{html.escape('; '.join(d.problems))}. Use pb or auto.</div>")
+    if state.narrow_slit:
+        warn += (f"<div class='ekx-warn'>⚠ The slit is {U.length(state.width)} wide, under "
+                 f"ten gaps ({U.length(10 * state.size)}): the slit model misses the side "
+                 "walls. Choose the Rectangle shape for this channel.</div>")
+    return (warn + f"<div class='ekx-small'>{html.escape(what)}; ΔV = "
+            f"{html.escape(U.voltage(state.voltage))}, Δp = "
+            f"{html.escape(U.pressure(state.pressure_drop))}; model "
+            f"{html.escape(compute.text(d.result.model))}. Hover a figure for its meaning."
+            f"</div><table class='ekx-table'>{body}</table>")
+
+
+def caution_html(d, state):
+    """The caution box, with the ratings the user set and any that are exceeded."""
+    limits = (f" Ratings you set: {html.escape(U.voltage(state.max_voltage))} and "
+              f"{html.escape(U.pressure(state.max_pressure))}.")
+    extra = ""
+    if d is not None and d.warnings:
+        extra = ("<br><b>Above your ratings:</b> "
+                 + "; ".join(html.escape(x) for x in d.warnings) + ".")
+    return SAFETY_NOTE.replace("</div>", limits + extra + "</div>")
 
 
 class DeviceView(ViewUpdates):
@@ -55,7 +80,10 @@ class DeviceView(ViewUpdates):
         from bokeh.models import ColumnDataSource
 
         self.state = state if state is not None else State()
-        self.controls = SetupControls(self.state, include_drive=True)
+        self.controls = SetupControls(self.state, include_drive=True, include_device=True)
+        self.controls.rejections.append(self._rejected)
+        self.caution = w.HTML(caution_html(None, self.state))
+        self.export = CodeExport()
         self.status = Status()
         self.readout = w.HTML()
         self.readout.add_class("ekx-readout")
@@ -65,6 +93,7 @@ class DeviceView(ViewUpdates):
         self.sources = {
             "pump": ColumnDataSource(dict(back_pressure=[], flow=[])),
             "pump_point": ColumnDataSource(dict(back_pressure=[], flow=[])),
+            "rating": ColumnDataSource(dict(x=[], y=[])),
             "generator": ColumnDataSource(dict(load=[], power=[], efficiency=[])),
             "best": ColumnDataSource(dict(load=[], power=[], efficiency=[])),
         }
@@ -73,13 +102,16 @@ class DeviceView(ViewUpdates):
         S = self.sources
         fp = new_figure(420, 330, "pump curve at the applied voltage", "back-pressure [kPa]",
                         "flow rate [µL/min]")
+        fp.line("x", "y", source=S["rating"], color="#7a1f0c", line_width=2,
+                line_dash="dashed", legend_label="max. pressure (your rating)")
         fp.line("back_pressure", "flow", source=S["pump"], color=PALETTE[0], line_width=2.5,
                 legend_label="electroosmotic pump")
         fp.scatter("back_pressure", "flow", source=S["pump_point"], size=12,
                    marker="circle_cross", fill_color=PALETTE[1], line_color="black",
                    legend_label="operating point")
-        fp.legend.location = "top_right"
         fp.legend.label_text_font_size = "10px"
+        fp.add_layout(fp.legend[0], "below")
+        fp.legend.orientation = "horizontal"
         fg = new_figure(440, 175, "streaming generator driven by Δp", "",
                         "load power [W]", x_log=True, y_log=True)
         fg.line("load", "power", source=S["generator"], color=PALETTE[2], line_width=2.5)
@@ -88,9 +120,8 @@ class DeviceView(ViewUpdates):
         fe.line("load", "efficiency", source=S["generator"], color=PALETTE[3], line_width=2.5)
         fe.scatter("load", "efficiency", source=S["best"], size=10, marker="triangle",
                    fill_color=PALETTE[3], line_color="black", legend_label="maximum")
-        fe.legend.location = "top_left"
         fe.legend.label_text_font_size = "10px"
-        fe.legend.background_fill_alpha = 0.7
+        fe.add_layout(fe.legend[0], "right")
         self.figures = {"pump": fp, "generator": fg, "efficiency": fe}
         self.worker = Worker()
         self.state.observe(self._changed)
@@ -101,7 +132,8 @@ class DeviceView(ViewUpdates):
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
                         "<span class='ekx-sub'>&nbsp; flow, current and power of one channel; "
                         "pump and generator curves</span>")
-        right = w.VBox([self.status.widget, w.HTML(SAFETY_NOTE), self.plots, self.readout],
+        right = w.VBox([self.status.widget, self.caution, self.readout, self.plots,
+                        self.export.widget],
                        layout=w.Layout(flex="1 1 auto", max_width="920px", min_width="0",
                                         overflow="auto"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
@@ -124,20 +156,41 @@ class DeviceView(ViewUpdates):
     def _show(self, d, st):
         a = d.conductances["flow_per_pressure"]
         b = d.conductances["flow_per_volt"]
-        # pump curve: Q = b V - a p_back, from zero to the stall pressure (and the
-        # operating point, whose back-pressure is minus the applied pressure drop)
+        # pump curve: Q = b V - a p_back, from zero to the stall pressure or the
+        # pressure rating, whichever is lower (and the operating point, whose
+        # back-pressure is minus the applied pressure drop)
         p_back_op = -st.pressure_drop
-        hi = max(abs(d.stall_pressure), abs(p_back_op)) * 1.1 or 1.0
-        lo = min(0.0, p_back_op * 1.1, d.stall_pressure * 1.1)
-        p = np.linspace(lo, max(hi, d.stall_pressure), 101)
+        top = min(abs(d.stall_pressure), st.max_pressure) if d.stall_pressure else 0.0
+        hi = max(top, abs(p_back_op), 1.0)
+        lo = min(0.0, p_back_op)
+        p = np.linspace(lo, hi, 101) if d.stall_pressure >= 0 else np.linspace(-hi, -lo, 101)
+        q = (b * st.voltage - a * p)
+        fq, pre = prefix_scale(max(np.max(np.abs(q)), abs(d.flow), 1e-30) * U.M3S_TO_L_PER_MIN)
+        self.figures["pump"].yaxis.axis_label = f"flow rate [{pre}L/min]"
         self.sources["pump"].data = dict(back_pressure=p / 1e3,
-                                         flow=(b * st.voltage - a * p) * LPM * 1e6)
+                                         flow=q * U.M3S_TO_L_PER_MIN * fq)
         self.sources["pump_point"].data = dict(back_pressure=[p_back_op / 1e3],
-                                               flow=[d.flow * LPM * 1e6])
+                                               flow=[d.flow * U.M3S_TO_L_PER_MIN * fq])
+        if abs(d.stall_pressure) > st.max_pressure:
+            x = np.sign(d.stall_pressure) * st.max_pressure / 1e3
+            ys = q * U.M3S_TO_L_PER_MIN * fq
+            self.sources["rating"].data = dict(x=[x, x], y=[float(np.min(ys)),
+                                                             float(np.max(ys))])
+        else:
+            self.sources["rating"].data = dict(x=[], y=[])
         power = np.where(d.load_power > 0, d.load_power, np.nan)
-        self.sources["generator"].data = dict(load=d.load, power=power,
-                                              efficiency=d.load_efficiency * 100)
-        k = int(np.nanargmax(d.load_efficiency))
-        self.sources["best"].data = dict(load=[d.load[k]], power=[power[k]],
-                                         efficiency=[d.load_efficiency[k] * 100])
+        fpow, ppre = prefix_scale(np.nanmax(power) if np.any(np.isfinite(power)) else 0.0)
+        self.figures["generator"].yaxis.axis_label = f"load power [{ppre}W]"
+        eff_ok = not d.problems
+        self.sources["generator"].data = dict(
+            load=d.load, power=power * fpow,
+            efficiency=d.load_efficiency * 100 if eff_ok else np.full(d.load.shape, np.nan))
+        if eff_ok and np.any(d.load_efficiency > 0):
+            k = int(np.nanargmax(d.load_efficiency))
+            self.sources["best"].data = dict(load=[d.load[k]], power=[power[k] * fpow],
+                                             efficiency=[d.load_efficiency[k] * 100])
+        else:
+            self.sources["best"].data = dict(load=[], power=[], efficiency=[])
         self.readout.value = readout_html(d, st)
+        self.caution.value = caution_html(d, st)
+        self.export.show(st)

@@ -8,14 +8,20 @@ import ipywidgets as w
 import numpy as np
 
 from . import compute
-from .common import (CSS, PALETTE, SetupControls, Status, ViewUpdates, Worker, bokeh_widget,
+from .common import (CSS, PALETTE, CodeExport, SetupControls, Status, ViewUpdates, Worker, bokeh_widget,
                      download_link, new_figure)
 from .state import State
+from . import units as U
 from .units import eng, length_unit, num, prefix_scale
 
 __all__ = ["ExplorerView"]
 
 TITLE = "ekexplore — coupling matrix explorer"
+
+
+def symbols(text):
+    """Escape ``text`` for HTML and render λ_D as a symbol with a subscript."""
+    return html.escape(text).replace("λ_D", "λ<sub>D</sub>")
 
 
 def matrix_html(ex, state):
@@ -31,28 +37,46 @@ def matrix_html(ex, state):
         f"<tr><td class='l'>mean current density ⟨j⟩</td><td>{eng(m[1, 0] * G1, 'A/m²')}</td>"
         f"<td>{eng(m[1, 1] * E1, 'A/m²')}</td></tr></table>")
     c = ex.conductances
-    lpm = 6e7    # m^3/s -> L/min
+    what = (f"one channel, {U.length(state.width)} wide, L = {U.length(state.length)}"
+            if state.shape == "Slit" else f"one channel, L = {U.length(state.length)}")
     whole = (
-        f"<table class='ekx-table'><tr><th class='l'>whole channel, L = "
-        f"{eng(state.length, 'm')}</th><th>per Δp = 1 kPa</th><th>per ΔV = 1 V</th></tr>"
+        f"<table class='ekx-table'><tr><th class='l'>{html.escape(what)}</th>"
+        "<th>per Δp = 1 kPa</th><th>per ΔV = 1 V</th></tr>"
         f"<tr><td class='l'>flow rate Q</td>"
-        f"<td>{eng(c['flow_per_pressure'] * 1e3 * lpm, 'L/min')}</td>"
-        f"<td>{eng(c['flow_per_volt'] * lpm, 'L/min')}</td></tr>"
-        f"<tr><td class='l'>current I</td><td>{eng(c['current_per_pressure'] * 1e3, 'A')}</td>"
-        f"<td>{eng(c['conductance'], 'A')}</td></tr></table>")
+        f"<td>{U.flow(c['flow_per_pressure'] * 1e3)}</td>"
+        f"<td>{U.flow(c['flow_per_volt'])}</td></tr>"
+        f"<tr><td class='l'>current I</td><td>{U.current(c['current_per_pressure'] * 1e3)}</td>"
+        f"<td>{U.current(c['conductance'])}</td></tr></table>")
     r = ex.result
-    err = compute.scalar(r.error_estimate)
-    slit_note = "; slit figures are per metre of width" if state.shape == "Slit" else ""
+    acc = ex.accuracy
+    if acc.how == "numerical estimate of pb":
+        err = f"numerical error estimate {acc.error:.2g}"
+    else:
+        err = f"error {acc.how}: {U.percent(acc.error, 2)}"
     foot = (f"<div class='ekx-small'>model: <b>{html.escape(ex.model)}</b> "
-            f"(asked: {html.escape(state.model)}), estimated error {err:.2g}; "
-            f"reciprocity residual |L12−L21|/L12 = {compute.scalar(r.reciprocity_residual):.2g}"
-            f"{slit_note}.</div>")
-    return f"<div style='display:flex;flex-wrap:wrap'>{area}{whole}</div>{foot}"
+            f"(asked: {html.escape(state.model)}), {html.escape(err)}; "
+            f"reciprocity residual |L12−L21|/L12 = {compute.scalar(r.reciprocity_residual):.2g}."
+            "</div>")
+    warn = ""
+    if acc.out_of_range:
+        warn += f"<div class='ekx-warn'>⚠ {html.escape(acc.out_of_range)}</div>"
+    if ex.problems:
+        warn += ("<div class='ekx-warn'>⚠ Impossible result, not shown: "
+                 f"{html.escape('; '.join(ex.problems))}. "
+                 + ("The forced model is outside its range: use pb or auto."
+                    if acc.forced else
+                    "This is a known fault of the model at this point; do not rely on the "
+                    "derived quantities.") + "</div>")
+    if state.narrow_slit:
+        warn += (f"<div class='ekx-warn'>⚠ The slit is {U.length(state.width)} wide, under "
+                 f"ten gaps ({U.length(10 * state.size)}): the slit model misses the side "
+                 "walls. Choose the Rectangle shape for this channel.</div>")
+    return f"{warn}<div style='display:flex;flex-wrap:wrap'>{area}{whole}</div>{foot}"
 
 
 def derived_html(rows):
-    body = "".join(f"<tr><td class='l'>{html.escape(n)}</td><td>{html.escape(v)}</td>"
-                   f"<td class='l'>{html.escape(m)}</td></tr>" for n, v, m in rows)
+    body = "".join(f"<tr><td class='l'>{symbols(n)}</td><td>{symbols(v)}</td>"
+                   f"<td class='l'>{symbols(m)}</td></tr>" for n, v, m in rows)
     return ("<table class='ekx-table'><tr><th class='l'>quantity</th><th>value</th>"
             f"<th class='l'>meaning</th></tr>{body}</table>")
 
@@ -66,19 +90,15 @@ class ExplorerView(ViewUpdates):
 
         self.state = state if state is not None else State()
         self.controls = SetupControls(self.state)
+        self.controls.rejections.append(self._rejected)
         self.status = Status()
         self.verdict = w.HTML()
         self.matrix = w.HTML()
         self.matrix.add_class("ekx-matrix")
         self.derived = w.HTML()
-        self.code = w.Textarea(layout=w.Layout(width="900px", height="190px"),
-                               disabled=False)
-        self.code_button = w.ToggleButton(description="Show code", icon="code",
-                                          tooltip="a Python cell that reproduces this "
-                                                  "computation through the public API")
-        self.code_box = w.VBox([self.code], layout=w.Layout(display="none"))
-        self.code_button.observe(self._toggle_code, "value")
-        self.downloads = w.HTML()
+        self.export = CodeExport()
+        self.code, self.code_button = self.export.code, self.export.button
+        self.code_box, self.downloads = self.export.box, self.export.downloads
         self.last = None          # last good compute.Explored
         self.error = None         # last error message, or None
         self._signature = None
@@ -121,8 +141,7 @@ class ExplorerView(ViewUpdates):
         self.tabs = w.Tab(children=[w.VBox([w.HBox([self.profile_view]), self.note,
                                             self.plots]), self.field_box,
                                     self.derived,
-                                    w.VBox([w.HBox([self.code_button, self.downloads]),
-                                            self.code_box])])
+                                    self.export.widget])
         for i, t in enumerate(["Profiles", "2D field", "Derived quantities", "Export"]):
             self.tabs.set_title(i, t)
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
@@ -193,9 +212,6 @@ class ExplorerView(ViewUpdates):
     def _changed(self, change):
         self.update()
 
-    def _toggle_code(self, change):
-        self.code_box.layout.display = None if change["new"] else "none"
-
     NOTE_1D = ("<div class='ekx-small'>This shape is 1D (uniform along its width or "
                "around its axis): its fields across the section are on the Profiles tab.</div>")
 
@@ -211,18 +227,28 @@ class ExplorerView(ViewUpdates):
         self._signature = sig
         snap = self.state.copy()
         slow = snap.is_section
-        self.status.busy("computing a 2D section (can take a while)…" if slow else "computing…")
-        self.worker.submit(lambda: (snap, compute.explore(snap)), self._done, self._fail,
-                           background=slow and not sync)
+        self.status.busy("computing a 2D section…" if slow else "computing…")
+        # the matrix first (shown as soon as it is known), the fields after; an
+        # input replaced by a newer one is dropped between the two
+        self.worker.submit_stages(
+            [(lambda _: compute.explore_matrix(snap), lambda ex: self._show_matrix(ex, snap)),
+             (lambda ex: compute.explore_fields(ex), lambda ex: self._done((snap, ex)))],
+            self._fail, background=slow and not sync)
 
     def _ok_text(self, ex):
         return f"up to date — model {ex.model}"
 
-    def _show(self, ex, st):
+    def _show_matrix(self, ex, st):
+        """First stage: the matrix, verdict and derived quantities."""
         self.verdict.value = f"<div class='ekx-verdict'>{html.escape(ex.verdict)}</div>"
         self.matrix.value = matrix_html(ex, st)
         self.derived.value = derived_html(ex.derived)
         self.code.value = st.code()
+        self.matrix_model = ex.model
+        self.status.busy("matrix up to date; computing the profiles"
+                         + (" and 2D fields…" if st.is_section else "…"))
+
+    def _show(self, ex, st):
         self.downloads.value = (download_link("ekexplore_profiles.csv",
                                               compute.profiles_csv(ex), "profiles (CSV)")
                                 + download_link("ekexplore_matrix.csv",
@@ -275,16 +301,23 @@ class ExplorerView(ViewUpdates):
         self._show_field(ex.images)
 
     # ---- 2D fields ----------------------------------------------------------------
-    FIELDS = (("potential", "potential", "mV", 1e3),
+    FIELDS = (("potential", "potential ψ", "mV", 1e3),
               ("velocity_electroosmotic", "electroosmotic velocity", "m/s", None),
               ("velocity_pressure", "pressure-driven velocity", "m/s", None))
+    #: plot-area size of the field images [px]: longest side, shortest allowed side
+    FRAME, FRAME_MIN = 230, 36
+    #: decades shown by the logarithmic colour scale
+    LOG_DECADES = 4
 
     def _build_field_figures(self):
-        from bokeh.models import ColorBar, ColumnDataSource, LinearColorMapper
+        from bokeh.models import (ColorBar, ColumnDataSource, LinearColorMapper, LogColorMapper,
+                                  Range1d)
         from bokeh.palettes import Cividis256
         self.field_sources = {}
         self.field_mappers = {}
+        self.field_log_mappers = {}
         self.field_bars = {}
+        self.field_images_glyphs = {}
         self.field_figures = []
         self.cut_source = ColumnDataSource(dict(x=[], y=[]))
         self.cut_source.name = "ekx-field-cut-line"
@@ -292,9 +325,13 @@ class ExplorerView(ViewUpdates):
             src = ColumnDataSource(dict(image=[], x=[], y=[], dw=[], dh=[]))
             src.name = f"ekx-field-{key}"
             mapper = LinearColorMapper(palette=Cividis256, nan_color=(0, 0, 0, 0))
-            fig = new_figure(300, 240, title, "x [µm]", "y [µm]", match_aspect=True)
-            fig.image(image="image", x="x", y="y", dw="dw", dh="dh", source=src,
-                      color_mapper=mapper)
+            log_mapper = LogColorMapper(palette=Cividis256, nan_color=(0, 0, 0, 0))
+            fig = new_figure(300, 240, title, "x [µm]", "y [µm]", x_range=Range1d(0, 1),
+                             y_range=Range1d(0, 1))
+            fig.frame_width, fig.frame_height = self.FRAME, self.FRAME // 2
+            fig.width = fig.height = None
+            g = fig.image(image="image", x="x", y="y", dw="dw", dh="dh", source=src,
+                          color_mapper=mapper)
             fig.line("x", "y", source=self.cut_source, color="#D55E00", line_width=2,
                      line_dash="dashed")
             bar = ColorBar(color_mapper=mapper, width=10, title=unit,
@@ -303,8 +340,17 @@ class ExplorerView(ViewUpdates):
             fig.grid.visible = False
             self.field_sources[key] = src
             self.field_mappers[key] = mapper
+            self.field_log_mappers[key] = log_mapper
             self.field_bars[key] = bar
+            self.field_images_glyphs[key] = g
             self.field_figures.append(fig)
+        self.field_scale = w.ToggleButtons(
+            options=[("linear colours", "linear"), ("log |value| (near the wall)", "log")],
+            value="linear", style={"button_width": "190px"},
+            tooltips=["colour proportional to the value",
+                      f"colour on a log scale of the magnitude over {self.LOG_DECADES} decades: "
+                      "shows a thin double layer"])
+        self.field_scale.observe(self._rescale_fields, "value")
         self.centre_source = ColumnDataSource(dict(x=[], pressure=[], eo=[]))
         self.centre_source.name = "ekx-field-centreline"
         fc = new_figure(600, 200, "cut along the horizontal centreline", "x [µm]",
@@ -314,36 +360,74 @@ class ExplorerView(ViewUpdates):
         fc.line("x", "eo", source=self.centre_source, color=PALETTE[1], line_width=2,
                 line_dash="dashed", legend_label="electroosmotic")
         fc.legend.label_text_font_size = "10px"
-        fc.legend.location = "bottom_center"
-        fc.legend.background_fill_alpha = 0.6
+        fc.add_layout(fc.legend[0], "right")
         self.centre_figure = fc
         self.field_widget = None
+        self._images = None
+
+    def _rescale_fields(self, change=None):
+        if self._images is not None:
+            self._show_field(self._images)
+
+    def frame_size(self, width, height):
+        """Plot-area size [px] for a section of ``width`` x ``height``: equal
+        aspect, unless the section is so flat that the short side would fall
+        under FRAME_MIN pixels; returns (frame_w, frame_h, stretch factor)."""
+        if width >= height:
+            fw, fh = self.FRAME, self.FRAME * height / width
+            stretch = max(1.0, self.FRAME_MIN / fh)
+            return fw, int(round(max(fh, self.FRAME_MIN))), stretch
+        fw, fh = self.FRAME * width / height, self.FRAME
+        stretch = max(1.0, self.FRAME_MIN / fw)
+        return int(round(max(fw, self.FRAME_MIN))), fh, stretch
 
     def _show_field(self, img):
         from bokeh.layouts import column, row
         if img is None:
+            self._images = None
             self.field_box.children = [self.field_note]
             self.field_note.value = self.NOTE_1D
             return
+        self._images = img
+        log = self.field_scale.value == "log"
         k, unit = length_unit(max(img["width"], img["height"]))
+        x0, y0 = img["x0"] * k, img["y0"] * k
+        W, H = img["width"] * k, img["height"] * k
+        fw, fh, stretch = self.frame_size(W, H)
         for key, title, base, factor in self.FIELDS:
             a = img[key]
             fac, pre = (factor, "") if factor else prefix_scale(np.nanmax(np.abs(a)))
             label = f"{pre}{base}" if factor is None else base
-            self.field_bars[key].title = label
             finite = a[np.isfinite(a)]
-            m = self.field_mappers[key]
-            if finite.size:
-                m.low, m.high = float(np.min(finite) * fac), float(np.max(finite) * fac)
-                if m.low == m.high:
-                    m.high = m.low + 1e-12
-            self.field_sources[key].data = dict(image=[a * fac], x=[img["x0"] * k],
-                                                y=[img["y0"] * k], dw=[img["width"] * k],
-                                                dh=[img["height"] * k])
-        for fig in self.field_figures + [self.centre_figure]:
-            fig.xaxis.axis_label = f"x [{unit}]"
+            glyph = self.field_images_glyphs[key]
+            if log:
+                m = self.field_log_mappers[key]
+                mag = img["magnitude"][key]
+                top = float(np.nanmax(mag) * fac) if np.isfinite(mag).any() else 1.0
+                top = top if top > 0 else 1.0
+                m.low, m.high = top * 10.0 ** -self.LOG_DECADES, top
+                shown = mag * fac
+                self.field_bars[key].title = f"|value| [{pre}{base}], log" if factor is None \
+                    else f"|value| [{base}], log"
+            else:
+                m = self.field_mappers[key]
+                if finite.size:
+                    lo, hi = float(np.min(finite) * fac), float(np.max(finite) * fac)
+                    if lo == hi:
+                        lo, hi = lo - 1e-12 - abs(lo) * 1e-6, hi + 1e-12 + abs(hi) * 1e-6
+                    m.low, m.high = lo, hi
+                shown = a * fac
+                self.field_bars[key].title = f"[{pre}{base}]" if factor is None else f"[{base}]"
+            glyph.glyph.color_mapper = m
+            self.field_bars[key].color_mapper = m
+            self.field_sources[key].data = dict(image=[shown], x=[x0], y=[y0], dw=[W], dh=[H])
         for fig in self.field_figures:
+            fig.x_range.start, fig.x_range.end = x0, x0 + W
+            fig.y_range.start, fig.y_range.end = y0, y0 + H
+            fig.frame_width, fig.frame_height = int(fw), int(fh)
+            fig.xaxis.axis_label = f"x [{unit}]"
             fig.yaxis.axis_label = f"y [{unit}]"
+        self.centre_figure.xaxis.axis_label = f"x [{unit}]"
         nx_, ny_ = img["normal"]
         self.cut_source.data = dict(x=nx_ * k, y=ny_ * k)
         c = img["centre"]
@@ -351,10 +435,15 @@ class ExplorerView(ViewUpdates):
         f, pre = prefix_scale(max(np.nanmax(np.abs(up)), np.nanmax(np.abs(ue))))
         self.centre_figure.yaxis.axis_label = f"velocity [{pre}m/s]"
         self.centre_source.data = dict(x=c["x"] * k, pressure=up * f, eo=ue * f)
+        flat = (f" The section is {num(max(W, H) / min(W, H), 2)}:1, so its short side is drawn "
+                f"{num(stretch, 2)}× longer than to scale." if stretch > 1.0 else
+                " Both axes to the same scale.")
         self.field_note.value = (
-            "<div class='ekx-small'>Fields over the cross-section (blank: outside the "
-            "channel). Dashed orange: the cut from the nearest wall to the centre shown on "
-            "the Profiles tab.</div>")
+            "<div class='ekx-small'>Fields over the cross-section, "
+            f"{html.escape(U.length(img['width']))} × {html.escape(U.length(img['height']))} "
+            "(transparent: outside the channel)." + flat + " Dashed orange: the cut from the "
+            "nearest wall to the centre shown on the Profiles tab. A thin double layer shows "
+            "best with the log colour scale.</div>")
         # a fresh widget each time, so the page gets the new data even if the tab
         # has not been shown yet
         if self.field_widget is not None:
@@ -365,4 +454,5 @@ class ExplorerView(ViewUpdates):
             self.field_widget.close()
         self._field_layout = column(row(*self.field_figures), self.centre_figure)
         self.field_widget = bokeh_widget(self._field_layout)
-        self.field_box.children = [self.field_note, self.field_widget]
+        self.field_box.children = [self.field_note, w.HBox([self.field_scale]),
+                                   self.field_widget]

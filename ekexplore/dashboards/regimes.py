@@ -9,9 +9,12 @@ import ipywidgets as w
 import numpy as np
 
 from . import compute
-from .common import CSS, SetupControls, Status, ViewUpdates, Worker, bokeh_widget, new_figure
+from .common import CSS, CodeExport, SetupControls, Status, ViewUpdates, Worker, bokeh_widget, new_figure
 from .state import CONCENTRATION_RANGE, SIZE_RANGE, State
+from . import units as U
 from .units import eng, num
+
+UM = 1e6   # m -> µm on the size axis
 
 __all__ = ["RegimesView"]
 
@@ -35,6 +38,8 @@ class RegimesView(ViewUpdates):
         self.state = state if state is not None else State()
         self.n = n
         self.controls = SetupControls(self.state, include_drive=False)
+        self.controls.rejections.append(self._rejected)
+        self.export = CodeExport()
         self.status = Status()
         self.layer = w.Dropdown(options=[(v[0], k) for k, v in compute.LAYERS.items()],
                                 value="eo_fraction", description="colour layer",
@@ -68,10 +73,11 @@ class RegimesView(ViewUpdates):
                         "log": LogColorMapper(palette=Cividis256, low=1e-4, high=10,
                                               nan_color="#dddddd")}
         fa = new_figure(440, 400, "ionic strength × channel size",
-                        "ionic strength [mM]", "size [m]", x_log=True, y_log=True,
-                        x_range=CONCENTRATION_RANGE, y_range=SIZE_RANGE)
+                        "ionic strength [mM]", "size [µm]", x_log=True, y_log=True,
+                        x_range=CONCENTRATION_RANGE,
+                        y_range=(SIZE_RANGE[0] * UM, SIZE_RANGE[1] * UM))
         fb = new_figure(440, 400, "κ·a × dimensionless wall potential",
-                        "κ·a (half-size / Debye length) [-]", "e|ζ|/kT [-]", x_log=True,
+                        "κ·a (half-size a over Debye length) [-]", "e|ζ|/kT [-]", x_log=True,
                         x_range=(0.1, 1000.0), y_range=(0.0, 8.0))
         self.figures = {"size": fa, "kz": fb}
         self.quads = {}
@@ -97,16 +103,16 @@ class RegimesView(ViewUpdates):
             f.scatter("x", "y", source=S["point_" + key], marker="circle_cross", size=16,
                       fill_color="#D55E00", line_color="white", line_width=2,
                       legend_label="operating point")
-            f.legend.location = "bottom_left" if key == "size" else "bottom_right"
             f.legend.label_text_font_size = "10px"
-            f.legend.background_fill_alpha = 0.7
+            f.add_layout(f.legend[0], "below")
         fa.add_tools(HoverTool(renderers=[self.quads["size"]], tooltips=[
             ("ionic strength", "@x_text"), ("size", "@y_text"),
             ("κ·a", "@kappa_size{0.00}"), ("value", "@value_text")]))
         fb.add_tools(HoverTool(renderers=[self.quads["kz"]], tooltips=[
             ("κ·a", "@x_text"), ("e|ζ|/kT", "@y_text"), ("value", "@value_text")]))
         self.colorbar = ColorBar(color_mapper=self.mappers["linear"], width=12,
-                                 major_label_text_font_size="10px", title_text_font_size="10px")
+                                 major_label_text_font_size="10px", title_text_font_size="10px",
+                                 title="")
         fb.add_layout(self.colorbar, "right")
         from bokeh.events import Tap
         fa.on_event(Tap, self._tap_size)
@@ -121,7 +127,8 @@ class RegimesView(ViewUpdates):
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
                         "<span class='ekx-sub'>&nbsp; tap a map to move the operating point; "
                         "hover to read values; one colour scale (right) for both maps; grey: outside the solver range</span>")
-        right = w.VBox([self.status.widget, self.layer, self.plots, self.readout],
+        right = w.VBox([self.status.widget, self.layer, self.plots, self.readout,
+                        self.export.widget],
                        layout=w.Layout(flex="1 1 auto", max_width="920px", min_width="0",
                                         overflow="auto"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
@@ -131,7 +138,7 @@ class RegimesView(ViewUpdates):
         self.update()
 
     def _tap_size(self, event):
-        self.tap_size(event.x, event.y)
+        self.tap_size(event.x, None if event.y is None else event.y / UM)
 
     def _tap_kz(self, event):
         self.tap_kz(event.x, event.y)
@@ -173,7 +180,7 @@ class RegimesView(ViewUpdates):
         n = self.n
 
         def work():
-            ex = compute.explore(snap)
+            ex = compute.explore_matrix(snap)
             a = compute.map_size(snap, n) if need_a else None
             b = compute.map_kappa_zeta(snap, n) if need_b else None
             return snap, ex, a, b, key_a, key_b
@@ -202,6 +209,7 @@ class RegimesView(ViewUpdates):
         try:
             self._show_points()
             self._recolour()
+            self.export.show(snap)
         except Exception as exc:  # never a traceback on the dashboard
             self._fail(exc)
             return
@@ -226,12 +234,12 @@ class RegimesView(ViewUpdates):
     def _show_points(self):
         a, b = self.last_size, self.last_kz
         S = self.sources
-        S["point_size"].data = dict(x=[a["point"][0]], y=[a["point"][1]])
+        S["point_size"].data = dict(x=[a["point"][0]], y=[a["point"][1] * UM])
         S["point_kz"].data = dict(x=[b["point"][0]], y=[b["point"][1]])
         xs, ys, lab = [], [], []
         for lev, (x, y) in a["contours"].items():
             xs.append(x)
-            ys.append(y)
+            ys.append(y * UM)
             lab.append(f"κa={lev:g}")
         S["contours"].data = dict(xs=xs, ys=ys, label=lab)
         # label each contour where it leaves the plot on the low-concentration side
@@ -241,7 +249,7 @@ class RegimesView(ViewUpdates):
             if np.any(inside):
                 k = np.flatnonzero(inside)[0]
                 tx.append(x[k])
-                ty.append(y[k])
+                ty.append(y[k] * UM)
                 tt.append(f"κa={lev:g}")
         S["contour_labels"].data = dict(x=tx, y=ty, text=tt)
 
@@ -253,6 +261,7 @@ class RegimesView(ViewUpdates):
         for k, q in self.quads.items():
             q.glyph.fill_color = {"field": "value", "transform": mapper}
         self.colorbar.color_mapper = mapper
+        self.colorbar.title = title.replace(" [-]", "") + " [-]"
         for name, m in (("size", self.last_size), ("kz", self.last_kz)):
             if m is None:
                 continue
@@ -263,8 +272,10 @@ class RegimesView(ViewUpdates):
             else:
                 xt = [num(v) for v in c["x"]]
                 yt = [num(v) for v in c["y"]]
+            f = UM if name == "size" else 1.0
             self.sources[name].data = dict(left=c["left"], right=c["right"],
-                                           bottom=c["bottom"], top=c["top"], x=c["x"], y=c["y"],
+                                           bottom=c["bottom"] * f, top=c["top"] * f, x=c["x"],
+                                           y=c["y"] * f,
                                            value=c[key], kappa_size=c["kappa_size"],
                                            x_text=xt, y_text=yt,
                                            value_text=[num(v) for v in c[key]])
@@ -281,9 +292,11 @@ class RegimesView(ViewUpdates):
             f"<b>Operating point</b>: ionic strength {num(a['point'][0])} mM, "
             f"{html.escape(st.size_name)} {eng(st.size, 'm')}, κ·a = {num(b['point'][0])}, "
             f"e|ζ|/kT = {num(b['point'][1])}; {html.escape(title.split(' [')[0])} here: "
-            f"{val}. Explorer model {html.escape(ex.model)}: L12 = "
-            f"{compute.scalar(r.electroosmotic):.4g} m²/(V·s), L22 = "
-            f"{compute.scalar(r.conductive):.4g} S/m.<br>"
+            f"{val}. At the operating point (model {html.escape(ex.model)}): "
+            f"electro-osmotic mobility {html.escape(U.mobility(compute.scalar(r.electroosmotic)))}"
+            f", channel conductivity {html.escape(U.conductivity(compute.scalar(r.conductive)))}"
+            f", Debye length λ<sub>D</sub> {html.escape(U.length(compute.scalar(r.debye_length)))}"
+            ".<br>"
             f"<span style='color:#1b2a38'>{html.escape(ex.verdict)}</span><br>"
             f"Maps: one batched solve per model (pb reference, thin, dh) on "
             f"{a['n_valid']} of {a['n_cells']} cells (left) and {b['n_valid']} of "

@@ -10,16 +10,13 @@ readable message a dashboard shows.
 """
 from __future__ import annotations
 
+import keyword
+
 import numpy as np
 import traitlets
 
 import ekexplore as ek
 from ekexplore.models import MODEL_CHOICES
-
-try:  # the 2D sections register themselves in ek.channels.SHAPES on import
-    import ekexplore.sections  # noqa: F401
-except ImportError:  # pragma: no cover - a core without 2D sections
-    pass
 
 __all__ = ["State", "CUSTOM", "SIZE_RANGE", "CONCENTRATION_RANGE", "SECTION_ACCURACY",
            "listed_shapes"]
@@ -85,6 +82,10 @@ class State(traitlets.HasTraits):
     length = traitlets.Float(1e-2)                  # channel length [m]
     voltage = traitlets.Float(50.0)                 # applied voltage [V]
     pressure_drop = traitlets.Float(1e3)            # applied pressure drop [Pa]
+    width = traitlets.Float(100e-6)                 # slit width [m] (its depth is the gap)
+    channels = traitlets.Int(1)                     # identical channels in parallel [-]
+    max_pressure = traitlets.Float(500e3)           # pressure rating of the chip [Pa]
+    max_voltage = traitlets.Float(1000.0)           # voltage limit of the supply [V]
 
     MODELS = MODEL_CHOICES
 
@@ -98,9 +99,39 @@ class State(traitlets.HasTraits):
 
     @traitlets.observe("shape")
     def _shape_changed(self, change):
-        if change["new"] not in ek.channels.SHAPES:
+        """A new shape starts from its defaults but keeps the sizes the user set
+        where it has them: parameters of the same name, a slit's gap as the
+        depth (and the slit width as the width), and otherwise the main size."""
+        new, old = change["new"], change["old"]
+        if new not in ek.channels.SHAPES:
             return  # reported by channel()
-        self.shape_params = shape_defaults(change["new"])
+        cls = ek.channels.SHAPES[new]
+        defaults = shape_defaults(new)
+        before = dict(self.shape_params)
+        main_old = before.get(size_parameter(old)) if old in ek.channels.SHAPES else None
+        main_new = size_parameter(new)
+        # the new shape's default proportions, scaled to the size the user set
+        params = dict(defaults)
+        if main_old:
+            f = float(main_old) / defaults[main_new]
+            params = {k: (v * f if cls.parameter_info[k].kind == "length" else v)
+                      for k, v in defaults.items()}
+        # then the user's own sizes under the same name (a slit's gap is a depth)
+        if old == "Slit":
+            before.setdefault("depth", before.get("gap"))
+            before.setdefault("width", self.width)
+        if new == "Slit" and "depth" in before:
+            before["gap"] = before["depth"]
+        kept = dict(params, **{k: float(v) for k, v in before.items()
+                               if k in params and v is not None})
+        for candidate in (kept, params, defaults):
+            try:
+                cls(**candidate)
+            except ValueError:
+                continue
+            params = candidate
+            break
+        self.shape_params = params
 
     # -- the size slider --------------------------------------------------------
     @property
@@ -143,7 +174,14 @@ class State(traitlets.HasTraits):
         params = dict(self.shape_params)
         if size is not None:
             params[self.size_name] = size
+        if self.shape == "Slit":
+            params["width"] = self.width
         return ek.channels.SHAPES[self.shape](**params)
+
+    @property
+    def narrow_slit(self):
+        """True when a slit is under ten gaps wide: its side walls matter."""
+        return self.shape == "Slit" and self.width < 10.0 * self.size
 
     def copy(self):
         """An independent snapshot (for a computation running on a thread)."""
@@ -181,32 +219,68 @@ class State(traitlets.HasTraits):
 
     # -- export -----------------------------------------------------------------
     def code(self):
-        """A short runnable Python cell that reproduces the computation."""
+        """A short runnable Python cell that reproduces the computation.
+
+        Every name taken from the state is written as a quoted string literal
+        (or checked to be a plain registered identifier), and every number as
+        a Python float, so the cell reads cleanly and a crafted state cannot
+        inject code into it.
+        """
+        def f(v):
+            return repr(float(v))
+
+        def q(v):
+            return repr(str(v))
+
         if self.salt == CUSTOM:
-            el = (f"ek.Electrolyte.symmetric({int(self.valence)}, {self.concentration!r}, "
-                  f"temperature={self.temperature!r})")
+            el = (f"ek.Electrolyte.symmetric({int(self.valence)}, {f(self.concentration)}, "
+                  f"temperature={f(self.temperature)})")
         else:
-            el = (f"ek.Electrolyte.salt({self.salt!r}, {self.concentration!r}, "
-                  f"temperature={self.temperature!r})")
+            el = (f"ek.Electrolyte.salt({q(self.salt)}, {f(self.concentration)}, "
+                  f"temperature={f(self.temperature)})")
         if self.wall_mode == "zeta":
-            wall = f"ek.Wall(zeta={self.zeta!r}"
+            wall = f"ek.Wall(zeta={f(self.zeta)}"
         else:
-            wall = f"ek.Wall(charge_density={self.charge_density!r}"
-        wall += f", stern_conductance={self.stern_conductance!r})" if self.stern_conductance \
-            else ")"
-        args = ", ".join(f"{k}={v!r}" for k, v in self.shape_params.items())
-        if getattr(ek, self.shape, None) is ek.channels.SHAPES.get(self.shape):
+            wall = f"ek.Wall(charge_density={f(self.charge_density)}"
+        wall += (f", stern_conductance={f(self.stern_conductance)})" if self.stern_conductance
+                 else ")")
+        cls = ek.channels.SHAPES.get(self.shape)
+        params = {str(k): float(v) for k, v in self.shape_params.items()}
+        if self.shape == "Slit":
+            params["width"] = float(self.width)
+        plain = cls is not None and all(
+            k.isidentifier() and not keyword.iskeyword(k) and
+            (k in cls.parameters or (self.shape == "Slit" and k == "width"))
+            for k in params)
+        if plain:
+            args = ", ".join(f"{k}={f(v)}" for k, v in params.items())
+        else:   # names that are not plain parameters: passed as quoted keys
+            args = "**{" + ", ".join(f"{q(k)}: {f(v)}" for k, v in params.items()) + "}"
+        if (cls is not None and self.shape.isidentifier()
+                and getattr(ek, self.shape, None) is cls):
             ch = f"ek.{self.shape}({args})"
         else:
-            ch = f"ek.channels.SHAPES[{self.shape!r}]({args})"
-        acc = "".join(f", {k}={v!r}" for k, v in self.solve_options().items())
+            ch = f"ek.channels.SHAPES[{q(self.shape)}]({args})"
+        acc = "".join(f", {k}={f(v)}" for k, v in self.solve_options().items())
         return "\n".join([
             "import ekexplore as ek",
             "",
             f"electrolyte = {el}",
             f"wall = {wall}",
             f"channel = {ch}",
-            f"result = ek.solve(channel, electrolyte, wall, model={self.model!r}{acc})",
+            f"result = ek.solve(channel, electrolyte, wall, model={q(self.model)}{acc})",
             "print(result.matrix)  # [<u>, <j>] = matrix @ [-dp/dx, E], SI per unit area",
-            f"print(result.conductances(length={self.length!r}))  # whole channel, SI",
-        ])
+            "",
+            "# driving, as on the screen",
+            f"length = {f(self.length)}  # channel length [m]",
+            f"voltage = {f(self.voltage)}  # applied voltage [V]",
+            f"pressure_drop = {f(self.pressure_drop)}  # applied pressure drop [Pa]",
+            f"channels = {int(self.channels)}  # identical channels in parallel",
+            "c = result.conductances(length)  # one whole channel, SI",
+            "flow = channels * (c['flow_per_pressure'] * pressure_drop"
+            " + c['flow_per_volt'] * voltage)  # [m^3/s]",
+            "current = channels * (c['current_per_pressure'] * pressure_drop"
+            " + c['conductance'] * voltage)  # [A]",
+            "print(f'flow rate {float(flow) * 6e4 * 1e6:.4g} uL/min, "
+            "current {float(current) * 1e9:.4g} nA')",
+        ]) + "\n"

@@ -73,3 +73,139 @@ def prefix_scale(max_abs):
         if v >= s * 0.9995:
             scale, prefix = s, p
     return 1.0 / scale, prefix
+
+
+# ---------------------------------------------------------------------------
+# SI -> screen units: the one place where the dashboards convert.
+# Each factor is checked against a hand value in tests/test_dashboards_units.py.
+# ---------------------------------------------------------------------------
+#: m^3/s -> L/min: 1 m^3 = 1000 L, 1 min = 60 s
+M3S_TO_L_PER_MIN = 1e3 * 60.0
+#: S/m -> mS/cm: 1 S/m = 1000 mS / 100 cm
+S_PER_M_TO_MS_PER_CM = 1e3 / 1e2
+#: m^2/(V s) -> µm·cm/(V s): 1 m = 1e6 µm = 1e2 cm
+MOBILITY_TO_UM_CM = 1e6 * 1e2
+#: K -> °C offset
+ZERO_CELSIUS = 273.15
+
+
+def litre_per_minute(q):
+    """Flow rate [m³/s] in L/min.
+
+    >>> litre_per_minute(1e-3 / 60)
+    1.0
+    """
+    return float(q) * M3S_TO_L_PER_MIN
+
+
+def flow(q):
+    """Flow rate [m³/s] as text in L/min with a prefix.
+
+    >>> flow(1.0e-12 / 60)
+    '1 nL/min'
+    """
+    return eng(litre_per_minute(q), "L/min")
+
+
+def millivolt(v):
+    """Potential [V] in mV."""
+    return float(v) * 1e3
+
+
+def potential(v):
+    """Potential [V] as text, always in mV (how ζ is given on screen).
+
+    >>> potential(-0.0512)
+    '-51.2 mV'
+    """
+    return f"{num(millivolt(v))} mV"
+
+
+def voltage(v):
+    """Voltage [V] as text with a prefix (kV, V, mV)."""
+    return eng(v, "V")
+
+
+def current(i):
+    """Current [A] as text with a prefix."""
+    return eng(i, "A")
+
+
+def power(p):
+    """Power [W] as text with a prefix."""
+    return eng(p, "W")
+
+
+def pressure(p):
+    """Pressure [Pa] as text in kPa (the unit of the pressure inputs).
+
+    >>> pressure(2500.0)
+    '2.5 kPa'
+    """
+    return f"{num(float(p) / 1e3)} kPa"
+
+
+def charge_density(s):
+    """Surface charge [C/m²] as text in mC/m².
+
+    >>> charge_density(-0.012)
+    '-12 mC/m²'
+    """
+    return f"{num(float(s) * 1e3)} mC/m²"
+
+
+def conductivity(k):
+    """Conductivity [S/m] as text in mS/cm (or µS/cm below 1 mS/cm).
+
+    >>> conductivity(0.1408), conductivity(1.0)
+    ('1.41 mS/cm', '10 mS/cm')
+    """
+    v = float(k) * S_PER_M_TO_MS_PER_CM
+    if v != 0.0 and abs(v) < 1.0:
+        return f"{num(v * 1e3)} µS/cm"
+    return f"{num(v)} mS/cm"
+
+
+def concentration(c):
+    """Concentration [mol/m³] as text in mM (1 mol/m³ = 1 mmol/L).
+
+    >>> concentration(10.0)
+    '10 mM'
+    """
+    return f"{num(c)} mM"
+
+
+def length(x):
+    """Length [m] as text with a prefix (nm, µm, mm)."""
+    return eng(x, "m")
+
+
+def mobility(mu):
+    """Electrophoretic or electro-osmotic mobility [m²/(V·s)] in µm·cm/(V·s).
+
+    >>> mobility(3.9e-8)
+    '3.9 µm·cm/(V·s)'
+    """
+    return f"{num(float(mu) * MOBILITY_TO_UM_CM)} µm·cm/(V·s)"
+
+
+def celsius(T):
+    """Temperature [K] in °C."""
+    return float(T) - ZERO_CELSIUS
+
+
+def percent(x, digits=3):
+    """A fraction [-] as text in %.
+
+    >>> percent(0.0123), percent(1.7)
+    ('1.23 %', '170 %')
+    """
+    v = float(x) * 100
+    if math.isfinite(v) and abs(v) >= 10 ** digits:
+        return f"{v:.0f} %"
+    return f"{v:.{digits}g} %"
+
+
+def conductance(g):
+    """Conductance [S] as text with a prefix."""
+    return eng(g, "S")

@@ -286,12 +286,8 @@ class Trapezoid(_Section):
 
     @property
     def half_size(self):
-        """Radius of the largest inscribed circle [m]."""
-        shape = self.shape
-        vals = self._values(shape)
-        out = np.array([self._inradius(*(v[k] for v in vals))
-                        for k in range(int(np.prod(shape)) if shape else 1)])
-        return out.reshape(shape)
+        """Radius of the largest inscribed circle [m] (closed form, see :meth:`_inradius`)."""
+        return self._inradius(self.top_width, self.bottom_width, self.depth)
 
     @staticmethod
     def _outline(t, b, d):
@@ -299,10 +295,26 @@ class Trapezoid(_Section):
 
     @staticmethod
     def _inradius(t, b, d):
-        V = Trapezoid._outline(t, b, d)
-        if b == 0.0 or t == 0.0:
-            V = V[[0, 2, 3]] if b == 0.0 else V[[0, 1, 2]]
-        return _chebyshev_centre(V)[1]
+        """Radius of the largest circle inside the trapezoid (array-wise).
+
+        The centre lies on the symmetry axis at height y; the radius is the
+        least of its distances to the floor (y), the top (d - y) and a
+        sidewall, (b/2 + s y)/sqrt(1 + s^2) with s = (t - b)/(2 d). That
+        minimum of linear functions is concave in y, so its maximum sits where
+        two of them cross: at y = d/2, at floor = sidewall and at
+        top = sidewall (common practice; checked against a linear program in
+        tests/test_sections_shapes.py).
+        """
+        t, b, d = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (t, b, d)))
+        s = (t - b) / (2.0 * d)
+        q = np.sqrt(1.0 + s**2)
+
+        def radius(y):
+            y = np.clip(y, 0.0, d)
+            return np.minimum(np.minimum(y, d - y), (0.5 * b + s * y) / q)
+        crossings = (0.5 * d, 0.5 * b / (q - s), (d * q - 0.5 * b) / (q + s))
+        out = np.max([radius(y) for y in crossings], axis=0)
+        return out if out.ndim else float(out)
 
     def _point_geometry(self, t, b, d):
         L = self._inradius(t, b, d)

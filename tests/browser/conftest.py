@@ -55,7 +55,7 @@ def start_server(*extra, log_name="serve.log"):
     proc = subprocess.Popen([sys.executable, "-m", "ekexplore", "serve", *extra],
                             stdout=subprocess.PIPE, stderr=out, text=True,
                             start_new_session=True, cwd=ROOT)
-    base = None
+    base = token = None
     deadline = time.monotonic() + 60
     lines = []
     try:
@@ -67,7 +67,8 @@ def start_server(*extra, log_name="serve.log"):
                 continue
             lines.append(line)
             if "read-only) at " in line:
-                base = line.split(" at ", 1)[1].strip().rstrip("/")
+                # http://host:port/?token=...: the origin and the token apart
+                base, _, token = line.split(" at ", 1)[1].strip().partition("/?token=")
         while time.monotonic() < deadline and base is not None:
             line = proc.stdout.readline()
             lines.append(line)
@@ -86,7 +87,9 @@ def start_server(*extra, log_name="serve.log"):
                 time.sleep(0.3)
         else:
             pytest.fail(f"server did not answer at {probe}")
-        yield {"base": base, "printed": "".join(lines), "proc": proc}
+        # "q" is the query that authenticates a page: base + path + q
+        yield {"base": base, "token": token, "q": f"?token={token}",
+               "printed": "".join(lines), "proc": proc}
     finally:
         if proc.poll() is None:
             os.killpg(proc.pid, signal.SIGINT)
@@ -125,7 +128,8 @@ def kernel_processes(server_proc):
 @pytest.fixture(scope="session")
 def server():
     """``ekexplore serve`` on a free localhost port for the whole session."""
-    with start_server("--cull-idle", "120", "--cull-interval", "30") as srv:
+    # the session opens about 8 pages, closed pages live until culled: room for them
+    with start_server("--cull-idle", "120", "--cull-interval", "30", "--max-kernels", "24") as srv:
         yield srv
 
 

@@ -58,7 +58,7 @@ class Page:
                 ".some(e => e.textContent.includes('up to date'))", timeout=LOAD_TIMEOUT)
         except Exception:
             ARTIFACTS.mkdir(exist_ok=True)
-            name = url.rsplit("/", 1)[-1].replace(".ipynb", "")
+            name = url.split("?", 1)[0].rsplit("/", 1)[-1].replace(".ipynb", "")
             self.page.screenshot(path=str(ARTIFACTS / f"load-failure-{name}.png"))
             self.context.close()
             raise
@@ -104,14 +104,14 @@ def test_serve_prints_urls_and_strips_sources(server):
     printed = server["printed"]
     for name in ("explorer", "regimes", "device"):
         assert f"/voila/render/{name}.ipynb" in printed
-    with urllib.request.urlopen(server["base"] + "/voila/render/device.ipynb",
+    with urllib.request.urlopen(server["base"] + "/voila/render/device.ipynb" + server["q"],
                                 timeout=60) as resp:
         html = resp.read().decode("utf-8", "replace")
     assert "from ekexplore.dashboards import" not in html     # no code cells served
 
 
 def test_explorer_slider_changes_matrix_and_plot(server, browser, artifacts, capsys):
-    p = Page(browser, server["base"] + "/voila/render/explorer.ipynb")
+    p = Page(browser, server["base"] + "/voila/render/explorer.ipynb" + server["q"])
     try:
         _assert_clean(p)
         p.page.screenshot(path=str(artifacts / "explorer.png"))
@@ -165,7 +165,7 @@ def test_explorer_slider_changes_matrix_and_plot(server, browser, artifacts, cap
 
 
 def test_two_pages_stay_independent(server, browser):
-    url = server["base"] + "/voila/render/explorer.ipynb"
+    url = server["base"] + "/voila/render/explorer.ipynb" + server["q"]
     a = Page(browser, url)
     b = Page(browser, url)
     try:
@@ -189,7 +189,7 @@ def test_two_pages_stay_independent(server, browser):
 
 
 def test_regimes_tap_moves_operating_point(server, browser, artifacts):
-    p = Page(browser, server["base"] + "/voila/render/regimes.ipynb")
+    p = Page(browser, server["base"] + "/voila/render/regimes.ipynb" + server["q"])
     try:
         _assert_clean(p)
         p.page.screenshot(path=str(artifacts / "regimes.png"))
@@ -214,7 +214,7 @@ def test_regimes_tap_moves_operating_point(server, browser, artifacts):
 
 
 def test_device_page(server, browser, artifacts):
-    p = Page(browser, server["base"] + "/voila/render/device.ipynb")
+    p = Page(browser, server["base"] + "/voila/render/device.ipynb" + server["q"])
     try:
         _assert_clean(p)
         body = p.page.inner_text("body")
@@ -234,7 +234,7 @@ def test_device_page(server, browser, artifacts):
 
 
 def test_explorer_2d_section_fields(server, browser, artifacts):
-    p = Page(browser, server["base"] + "/voila/render/explorer.ipynb")
+    p = Page(browser, server["base"] + "/voila/render/explorer.ipynb" + server["q"])
     try:
         shapes = p.page.locator(".widget-dropdown", has=p.page.locator(
             ".widget-label", has_text="shape")).locator("select")
@@ -273,7 +273,7 @@ def test_closed_page_kernel_is_culled(browser):
         pytest.skip("needs Linux /proc to count kernel processes")
     with conf.start_server("--cull-idle", "6", "--cull-interval", "2",
                            log_name="serve-cull.log") as srv:
-        p = Page(browser, srv["base"] + "/voila/render/device.ipynb")
+        p = Page(browser, srv["base"] + "/voila/render/device.ipynb" + srv["q"])
         assert len(conf.kernel_processes(srv["proc"])) == 1
         p.close()
         deadline = time.monotonic() + 90

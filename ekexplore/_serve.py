@@ -1,0 +1,224 @@
+"""The hardened Voila server behind ``ekexplore serve`` (runs in its own process).
+
+Standalone Voila already serves no REST API, strips sources and refuses code
+execution through the kernel socket. On top of it, every request handler is
+wrapped (a subclass whose ``prepare`` runs first) to add:
+
+- a **Host check**: the Host header must name the bound address (or, for a
+  loopback address, ``localhost``/``127.0.0.1``/``::1``; for other addresses
+  the machine's own names and any ``--allow-host``), else 403. This blocks
+  DNS rebinding, where a foreign web page resolves its own name to this
+  machine and reads the pages through the user's browser;
+- a **kernel cap**: a dashboard page starts one kernel; beyond
+  ``max_kernels`` live kernels (renders in progress count as kernels) the
+  page is a readable 503 "busy" page that retries by itself;
+- the **token** is Voila's own (jupyter_server's identity provider): a
+  request without it is sent to a login form; with ``?token=`` in the URL a
+  cookie is set, which the page's kernel connection then uses.
+
+Idle kernels, connected or not, are culled by the kernel manager
+(``cull_connected=True``): an open tab that nobody uses for ``cull_idle``
+seconds loses its kernel.
+
+Run by :func:`ekexplore.__main__.serve`; the token comes in the environment
+variable :data:`ENV_TOKEN` (never on the command line, which other users of
+the machine can read).
+"""
+from __future__ import annotations
+
+import argparse
+import html
+import inspect
+import ipaddress
+import os
+import socket
+import sys
+
+ENV_TOKEN = "EKEXPLORE_TOKEN"
+LOOPBACK_NAMES = ("localhost", "127.0.0.1", "::1")
+
+BUSY_PAGE = """<!doctype html>
+<html lang="en"><head><meta charset="utf-8"><meta http-equiv="refresh" content="{retry}">
+<title>ekexplore: all dashboard sessions are in use</title></head>
+<body style="font-family: sans-serif; max-width: 42em; margin: 3em auto; line-height: 1.5">
+<h1>All dashboard sessions are in use</h1>
+<p>This server runs at most {cap} dashboard pages at a time, and all of them are
+open. Each open page keeps its own session; a page left unused for
+{idle} is closed by the server and frees its session.</p>
+<p>This page tries again by itself every {retry} seconds. Closing dashboard tabs
+you no longer use frees a session sooner.</p>
+</body></html>
+"""
+
+HOST_PAGE = """<!doctype html>
+<html lang="en"><head><meta charset="utf-8"><title>ekexplore: host refused</title></head>
+<body style="font-family: sans-serif; max-width: 42em; margin: 3em auto">
+<h1>403: this server does not answer to {host}</h1>
+<p>The request named the host <code>{host}</code>, which is not an address of this
+server. If you reach it through another name (a reverse proxy), start it with
+<code>ekexplore serve --allow-host NAME</code>.</p></body></html>
+"""
+
+
+def is_loopback(host):
+    """True for ``localhost`` and loopback IP addresses (127.0.0.0/8, ::1)."""
+    if host == "localhost":
+        return True
+    try:
+        return ipaddress.ip_address(host).is_loopback
+    except ValueError:
+        return False
+
+
+def is_wildcard(host):
+    """True for the all-interfaces addresses (``0.0.0.0``, ``::``, empty)."""
+    return host in ("", "0.0.0.0", "::")
+
+
+def allowed_hosts(bind, extra=()):
+    """Host names (lower case, no port) accepted in the Host header.
+
+    A loopback bind accepts only the loopback names. Any other bind accepts
+    also the bound address, the machine's host name, its fully qualified
+    name and their addresses, and ``extra``.
+
+    Examples
+    --------
+    >>> sorted(allowed_hosts("127.0.0.1"))
+    ['127.0.0.1', '::1', 'localhost']
+    """
+    names = set(LOOPBACK_NAMES) | {str(bind).lower()}
+    if not is_loopback(bind):
+        for n in (socket.gethostname(), socket.getfqdn()):
+            names.add(n.lower())
+            try:
+                names.update(ai[4][0].lower() for ai in socket.getaddrinfo(n, None))
+            except OSError:
+                pass
+    names.update(str(e).lower() for e in extra)
+    names.discard("")
+    if is_wildcard(bind):
+        names.discard(str(bind))
+    return names
+
+
+def host_only(host_header):
+    """The host part of a Host header: no port, no IPv6 brackets, lower case."""
+    h = (host_header or "").strip().lower()
+    if h.startswith("["):
+        return h[1:].split("]", 1)[0]
+    if h.count(":") == 1:
+        h = h.split(":", 1)[0]
+    return h
+
+
+def _minutes(seconds):
+    return f"{seconds / 60:g} minutes" if seconds >= 120 else f"{seconds:g} seconds"
+
+
+def guarded_voila_class():
+    """A Voila application class whose handlers check the Host header and
+    cap the number of live kernels (imports Voila only when called)."""
+    from traitlets import Int, List, Unicode
+    from voila.app import Voila
+    from voila.tornado.handler import TornadoVoilaHandler
+
+    class GuardedVoila(Voila):
+        max_kernels = Int(8, help="live kernels at most; beyond it a busy page").tag(
+            config=True)
+        allow_host = List(Unicode(), help="extra names accepted in the Host header").tag(
+            config=True)
+
+        def init_handlers(self):
+            hosts = allowed_hosts(self.ip, self.allow_host)
+            app = self
+            app._ekx_starting = 0
+            idle = float(self.config.MappingKernelManager.get("cull_idle_timeout", 0) or 0)
+            busy = BUSY_PAGE.format(cap=self.max_kernels, retry=30,
+                                    idle=_minutes(idle) if idle else "a while")
+
+            def guard(cls):
+                renders = issubclass(cls, TornadoVoilaHandler)
+
+                async def prepare(self, *args, **kwargs):
+                    host = host_only(self.request.host)
+                    if host not in hosts:
+                        app.log.warning("refused a request for Host %r (allowed: %s)",
+                                         self.request.host, ", ".join(sorted(hosts)))
+                        self.set_status(403)
+                        self.set_header("Content-Type", "text/html; charset=utf-8")
+                        self.finish(HOST_PAGE.format(host=html.escape(host)))
+                        return
+                    out = super(guarded, self).prepare(*args, **kwargs)
+                    if inspect.isawaitable(out):
+                        await out
+                    if self._finished or not renders or self.request.method != "GET":
+                        return
+                    if not self.current_user:
+                        return  # the handler sends it to the login form
+                    live = len(self.kernel_manager.list_kernel_ids())
+                    if live + app._ekx_starting >= app.max_kernels:
+                        app.log.warning("busy: %d kernels live, %d starting, cap %d",
+                                         live, app._ekx_starting, app.max_kernels)
+                        self.set_status(503)
+                        self.set_header("Retry-After", "30")
+                        self.set_header("Content-Type", "text/html; charset=utf-8")
+                        self.set_header("Cache-Control", "no-store")
+                        self.finish(busy)
+                        return
+                    app._ekx_starting += 1
+                    self._ekx_counted = True
+
+                def on_finish(self):
+                    if getattr(self, "_ekx_counted", False):
+                        self._ekx_counted = False
+                        app._ekx_starting -= 1
+                    super(guarded, self).on_finish()
+
+                guarded = type(f"Guarded{cls.__name__}", (cls,),
+                               {"prepare": prepare, "on_finish": on_finish})
+                return guarded
+
+            return [(h[0], guard(h[1]), *h[2:]) for h in super().init_handlers()]
+
+    return GuardedVoila
+
+
+def voila_argv(root, port, host, max_kernels, cull_idle, cull_interval):
+    """Voila's own options: read-only (sources stripped, no tracebacks), the
+    given port only, idle kernels culled whether a page is connected or not."""
+    return [str(root), f"--port={int(port)}", f"--Voila.ip={host}", "--Voila.port_retries=0",
+            "--strip_sources=True", "--show_tracebacks=False", "--theme=light", "--no-browser",
+            f"--MappingKernelManager.cull_idle_timeout={int(cull_idle)}",
+            f"--MappingKernelManager.cull_interval={int(cull_interval)}",
+            "--MappingKernelManager.cull_connected=True",
+            f"--GuardedVoila.max_kernels={int(max_kernels)}"]
+
+
+def main(argv=None):
+    """Start the guarded Voila server (``python -m ekexplore._serve ...``)."""
+    p = argparse.ArgumentParser(prog="python -m ekexplore._serve")
+    p.add_argument("root")
+    p.add_argument("--port", type=int, required=True)
+    p.add_argument("--host", default="127.0.0.1")
+    p.add_argument("--max-kernels", type=int, default=8)
+    p.add_argument("--cull-idle", type=int, default=600)
+    p.add_argument("--cull-interval", type=int, default=60)
+    p.add_argument("--allow-host", action="append", default=[])
+    a = p.parse_args(argv)
+    token = os.environ.pop(ENV_TOKEN, "")
+    if not token:
+        print(f"{ENV_TOKEN} is not set: refusing to serve without a token", file=sys.stderr)
+        return 2
+    cls = guarded_voila_class()
+    app = cls.instance()
+    app.initialize(voila_argv(a.root, a.port, a.host, a.max_kernels, a.cull_idle,
+                              a.cull_interval))
+    app.allow_host = list(a.allow_host)
+    app.token = token
+    app.start()
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

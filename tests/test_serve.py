@@ -1,0 +1,262 @@
+"""``ekexplore serve`` protections, each checked against a real running server
+on 127.0.0.1: the URL is printed only once the server answers; the token is
+required; the Host header is checked; live kernels are capped with a readable
+busy page; an idle page is culled even while it stays connected.
+
+Every wait is a bounded loop. One server (cap 1 kernel, idle pages culled
+after 4 s) serves the whole module; the tests that must not start a kernel
+run first, and prove it: the cap is 1, so a kernel started by mistake would
+make the later render busy.
+"""
+from __future__ import annotations
+
+import asyncio
+import http.client
+import json
+import os
+import re
+import signal
+import subprocess
+import sys
+import time
+import uuid
+from pathlib import Path
+
+import pytest
+
+from ekexplore import __main__ as cli
+from ekexplore import _serve
+
+ROOT = Path(__file__).resolve().parents[1]
+START_TIMEOUT = 180       # s: cold start of Voila on 2 busy cores
+RENDER_TIMEOUT = 240      # s: kernel start + notebook run
+CULL_IDLE = 4             # s
+CULL_INTERVAL = 1         # s
+
+
+def _request(port, path, host=None, headers=None, method="GET", body=None, timeout=30):
+    conn = http.client.HTTPConnection("127.0.0.1", port, timeout=timeout)
+    try:
+        conn.request(method, path, body=body,
+                     headers={"Host": host or f"127.0.0.1:{port}", **(headers or {})})
+        resp = conn.getresponse()
+        return resp.status, {k.lower(): v for k, v in resp.getheaders()}, resp.read()
+    finally:
+        conn.close()
+
+
+@pytest.fixture(scope="module")
+def server():
+    env = {**os.environ, "PYTHONPATH": str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", "")}
+    env.pop(_serve.ENV_TOKEN, None)
+    log = open(ROOT / "test-artifacts" / "serve-protections.log", "w") \
+        if (ROOT / "test-artifacts").is_dir() else subprocess.DEVNULL
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "ekexplore", "serve", "--max-kernels", "1",
+         "--cull-idle", str(CULL_IDLE), "--cull-interval", str(CULL_INTERVAL)],
+        stdout=subprocess.PIPE, stderr=log, text=True, start_new_session=True, cwd=ROOT,
+        env=env)
+    lines, first_probe, t0 = [], None, time.monotonic()
+    try:
+        deadline = time.monotonic() + START_TIMEOUT
+        while time.monotonic() < deadline:
+            line = proc.stdout.readline()
+            if not line:
+                break
+            lines.append(line)
+            if " at http://" in line and first_probe is None:
+                port = int(re.search(r":(\d+)/", line).group(1))
+                # the very first request after the URL appears, with no retry
+                first_probe = _request(port, cli.PROBE_PATH)[0]
+            if "Ctrl+C" in line:
+                break
+        printed = "".join(lines)
+        m = re.search(r"at http://127\.0\.0\.1:(\d+)/\?token=(\S+)", printed)
+        if m is None:
+            pytest.fail(f"ekexplore serve printed no URL within {START_TIMEOUT} s:\n{printed}")
+        yield {"port": int(m.group(1)), "token": m.group(2), "printed": printed,
+               "first_probe": first_probe, "start_s": time.monotonic() - t0, "proc": proc}
+    finally:
+        if proc.poll() is None:
+            os.killpg(proc.pid, signal.SIGINT)
+            try:
+                proc.wait(timeout=20)
+            except subprocess.TimeoutExpired:
+                os.killpg(proc.pid, signal.SIGKILL)
+                proc.wait(timeout=5)
+        if log is not subprocess.DEVNULL:
+            log.close()
+
+
+def test_url_printed_only_once_the_server_answers(server):
+    assert server["first_probe"] == 200
+    tok = server["token"]
+    assert len(tok) >= cli.TOKEN_MIN
+    for name in ("explorer", "regimes", "device"):
+        assert f"/voila/render/{name}.ipynb?token={tok}" in server["printed"]
+    assert "voltages that can kill" in server["printed"]      # the caution is kept
+    print(f"\nserver start to URL printed: {server['start_s']:.1f} s")
+
+
+def test_token_is_required(server):
+    port, tok = server["port"], server["token"]
+    for path in ("/voila/render/explorer.ipynb", "/voila/render/explorer.ipynb?token=wrong" + tok,
+                 "/", "/voila/tree"):
+        status, headers, _ = _request(port, path)
+        assert status == 302, path
+        assert headers["location"].startswith("/login"), path
+    # the kernel API without the token or the cookie
+    status, _, _ = _request(port, "/api/kernels/" + str(uuid.uuid4()))
+    assert status == 403
+    # a wrong token typed into the login form gives no cookie
+    status, headers, _ = _request(port, "/login", method="POST", body="password=nottheone",
+                                  headers={"Content-Type": "application/x-www-form-urlencoded"})
+    assert "set-cookie" not in headers or "username" not in headers["set-cookie"]
+
+
+def test_host_header_is_checked(server):
+    port, tok = server["port"], server["token"]
+    for host in (f"attacker.example:{port}", "attacker.example", f"192.0.2.7:{port}",
+                 f"127.0.0.1.attacker.example:{port}"):
+        for path in (cli.PROBE_PATH, f"/voila/render/explorer.ipynb?token={tok}", "/login"):
+            status, _, body = _request(port, path, host=host)
+            assert status == 403, (host, path)
+        assert b"does not answer to" in body
+    for host in (f"127.0.0.1:{port}", f"localhost:{port}", f"[::1]:{port}", "localhost"):
+        assert _request(port, cli.PROBE_PATH, host=host)[0] == 200, host
+
+
+def _render(port, tok, cookie=None):
+    headers = {"Cookie": cookie} if cookie else {}
+    return _request(port, f"/voila/render/device.ipynb?token={tok}", headers=headers,
+                    timeout=RENDER_TIMEOUT)
+
+
+async def _hold_connection_until_culled(port, kernel_id, cookie, timeout):
+    """Open the page's kernel socket (a connected page), keep it open and poll
+    the kernel until the server culls it; returns (seconds, socket still open)."""
+    from tornado.httpclient import HTTPRequest
+    from tornado.websocket import websocket_connect
+    req = HTTPRequest(f"ws://127.0.0.1:{port}/api/kernels/{kernel_id}/channels",
+                      headers={"Cookie": cookie, "Host": f"127.0.0.1:{port}"})
+    ws = await websocket_connect(req)
+    # one harmless message through the socket, as a page does on connecting
+    msg = {"header": {"msg_id": uuid.uuid4().hex, "msg_type": "kernel_info_request",
+                      "username": "test", "session": uuid.uuid4().hex, "version": "5.3",
+                      "date": ""},
+           "parent_header": {}, "metadata": {}, "content": {}, "channel": "shell"}
+    await ws.write_message(json.dumps(msg))
+    t0 = time.monotonic()
+    gone = False
+    while time.monotonic() - t0 < timeout:
+        status, _, _ = await asyncio.to_thread(_request, port, f"/api/kernels/{kernel_id}",
+                                               None, {"Cookie": cookie})
+        if status == 404:
+            gone = True
+            break
+        await asyncio.sleep(0.5)
+    elapsed = time.monotonic() - t0
+    open_at_cull = ws.protocol is not None and ws.close_code is None
+    ws.close()
+    return gone, elapsed, open_at_cull
+
+
+def test_kernel_cap_busy_page_and_culling_of_a_connected_idle_page(server):
+    port, tok = server["port"], server["token"]
+    status, headers, body = _render(port, tok)
+    assert status == 200, body[:300]
+    assert b"from ekexplore" not in body                       # sources stripped
+    kernel_id = re.search(rb'"kernelId": "([0-9a-f-]{36})"', body).group(1).decode()
+    cookie = headers["set-cookie"].split(";", 1)[0]
+    assert _request(port, f"/api/kernels/{kernel_id}", headers={"Cookie": cookie})[0] == 200
+    # cap of 1 reached: a second page gets the busy page, not a second kernel
+    status, headers, body = _render(port, tok, cookie)
+    assert status == 503
+    assert headers["retry-after"] == "30"
+    text = body.decode()
+    assert "All dashboard sessions are in use" in text and "at most 1 dashboard" in text
+    assert "4 seconds" in text                                  # the stated idle time
+    # the first page stays connected but idle: culled after CULL_IDLE s (+ interval)
+    gone, elapsed, still_open = asyncio.run(
+        _hold_connection_until_culled(port, kernel_id, cookie, timeout=60))
+    assert gone, "the idle connected kernel was not culled within 60 s"
+    assert still_open
+    print(f"\nidle connected kernel culled {elapsed:.1f} s after its last message "
+          f"(cull-idle {CULL_IDLE} s, interval {CULL_INTERVAL} s)")
+    # its session is free again: a new page renders
+    status, _, _ = _render(port, tok, cookie)
+    assert status == 200
+
+
+# --- options and warnings (no server needed) ----------------------------------------
+
+def test_allowed_hosts_and_host_parsing():
+    assert _serve.allowed_hosts("127.0.0.1") == {"127.0.0.1", "localhost", "::1"}
+    assert "attacker.example" not in _serve.allowed_hosts("0.0.0.0")
+    assert "proxy.lab" in _serve.allowed_hosts("127.0.0.1", ["proxy.lab"])
+    assert _serve.host_only("LOCALHOST:8866") == "localhost"
+    assert _serve.host_only("[::1]:8866") == "::1"
+    assert _serve.host_only("127.0.0.1") == "127.0.0.1"
+
+
+@pytest.mark.parametrize("kwargs,match", [
+    (dict(token="short"), "--token"),
+    (dict(token="a" * 20 + "&x"), "--token"),
+    (dict(max_kernels=0), "--max-kernels"),
+    (dict(cull_idle=0), "--cull-idle"),
+    (dict(cull_interval=700), "--cull-interval"),
+])
+def test_unsafe_options_refused(kwargs, match):
+    opts = dict(host="127.0.0.1", token=None, max_kernels=8, cull_idle=600, cull_interval=60)
+    opts.update(kwargs)
+    with pytest.raises(ValueError, match=match):
+        cli.check_options(**opts)
+
+
+def test_non_loopback_address_warns_loudly_and_keeps_the_token(monkeypatch, capsys):
+    seen = {}
+
+    class NoServer:  # stands in for the server process: nothing listens on 0.0.0.0
+        def __init__(self, cmd, cwd=None, env=None):
+            seen["cmd"], seen["env"] = cmd, env
+            self.pid = -1
+
+        def poll(self):
+            return 1
+
+        def wait(self, timeout=None):
+            return 1
+
+    monkeypatch.setattr(cli.subprocess, "Popen", NoServer)
+    monkeypatch.setattr(cli.signal, "signal", lambda *a: None)
+    assert cli.main(["serve", "--host", "0.0.0.0", "--port", "8899"]) == 1
+    err = capsys.readouterr().err
+    assert "WARNING: ekexplore serve is listening on 0.0.0.0:8899" in err
+    assert "unencrypted" in err
+    assert len(seen["env"][_serve.ENV_TOKEN]) >= cli.TOKEN_MIN   # a token, always
+    assert not any(_serve.ENV_TOKEN in a or seen["env"][_serve.ENV_TOKEN] in a
+                   for a in seen["cmd"])                          # never on the command line
+    assert "--host=0.0.0.0" in seen["cmd"]
+
+
+def test_loopback_prints_no_remote_warning(monkeypatch, capsys):
+    class NoServer:
+        def __init__(self, cmd, cwd=None, env=None):
+            self.pid = -1
+
+        def poll(self):
+            return 1
+
+        def wait(self, timeout=None):
+            return 1
+
+    monkeypatch.setattr(cli.subprocess, "Popen", NoServer)
+    monkeypatch.setattr(cli.signal, "signal", lambda *a: None)
+    cli.main(["serve"])
+    out = capsys.readouterr()
+    assert "WARNING" not in out.err and "token=" not in out.out   # no URL: it never answered
+
+
+def test_server_refuses_to_start_without_a_token(monkeypatch):
+    monkeypatch.delenv(_serve.ENV_TOKEN, raising=False)
+    assert _serve.main([str(ROOT / "dashboards"), "--port", "1"]) == 2
