@@ -764,3 +764,30 @@ def test_sweep_with_a_surface_matches_solve():
                         rtol=1e-12)
     with pytest.raises(ValueError, match="pH"):
         ek.sweep(grid={"gap": [30e-9]}, concentration=1.0, zeta=-0.05, surface=Surface.silica())
+
+
+@pytest.mark.parametrize("m", [0, 1])
+def test_regulated_walls_random_inputs_over_the_documented_range(m):
+    # random pH 0-14, KCl 1 uM - 1 M, half-sizes 2 nm - 20 um, three materials,
+    # every model: finite results, zeta of the sign of the charge, the charge
+    # within what the sites can carry, the charge reproduced by the sites at
+    # the solved zeta, and L21 = L12 within the model's accuracy
+    rng = np.random.default_rng(11)
+    n = 30
+    pH = rng.uniform(0, 14, n)
+    c = 10 ** rng.uniform(-3, 3, n)
+    d = 2 * 10 ** rng.uniform(-8.7, -4.7, n)
+    e = ek.Electrolyte.salt("KCl", c)
+    shape = ek.Slit(d) if m == 0 else ek.Tube(d)
+    for surf in (Surface.silica(), Surface.alumina(0.8),
+                 Surface([Site(4.5, 2e18), Site(10.0, 1e18, charge=1)], 0.3)):
+        lo, hi = surf.charge_bounds
+        for model in ("thin", "dh", "pb", "auto"):
+            r = ek.solve(shape, e, ek.Wall(surface=surf, pH=pH), model=model)
+            assert np.all(np.isfinite(r.matrix)) and np.all(np.isfinite(r.wall_charge))
+            assert np.all(r.wall_potential * r.wall_charge >= 0)
+            assert np.all((r.wall_charge >= lo) & (r.wall_charge <= hi))
+            assert_allclose(r.wall_charge, surf.wall_charge(r.wall_potential, pH), rtol=1e-9,
+                            atol=1e-15)
+            assert np.all((r.charged_fraction >= 0) & (r.charged_fraction <= 1))
+            assert np.all(r.reciprocity_residual < 1e-6)
