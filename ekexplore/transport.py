@@ -26,9 +26,12 @@ __all__ = ["solve", "Result", "MODEL_CHOICES"]
 def _conditions(channel, electrolyte, wall):
     wall_name = {"potential": "zeta", "charge": "charge_density"}.get(wall.condition,
                                                                        "surface and pH")
+    value = wall._regulated_value(electrolyte) if wall.condition == "regulated" else wall.value
+    wall_shape = value.shape[1:] if wall.condition == "regulated" else wall.shape
+    wall_shape = np.broadcast_shapes(wall_shape, wall.stern_conductance.shape)
     shape = broadcast_named({**channel._parameter_shapes(),
                              "electrolyte (concentration, temperature)": electrolyte.shape,
-                             f"wall ({wall_name}, stern_conductance)": wall.shape})
+                             f"wall ({wall_name}, stern_conductance)": wall_shape})
     def bc(a):
         return np.broadcast_to(np.asarray(a, dtype=float), shape)
     def bcn(a):  # (n, *own_shape) -> (n, *shape), aligning the trailing axes
@@ -42,7 +45,7 @@ def _conditions(channel, electrolyte, wall):
         diffusivities=bcn(electrolyte.diffusivities),
         ion_names=tuple(i.name for i in electrolyte.ions),
         kappa=bc(1.0 / electrolyte.debye_length), wall_condition=wall.condition,
-        wall_value=bcn(wall.value) if wall.condition == "regulated" else bc(wall.value),
+        wall_value=bcn(value) if wall.condition == "regulated" else bc(value),
         stern_conductance=bc(wall.stern_conductance))
 
 

@@ -45,7 +45,8 @@ class Wall:
         A wall material whose charge follows the pH (:class:`ekexplore.Surface`):
         the charge is solved with the double layer of every model and shape.
     pH : array_like, optional
-        Bulk pH [-], 0-14, with ``surface`` (required with it).
+        Bulk pH [-], 0-14, with ``surface``; if not given, the electrolyte's
+        own ``pH`` when solved (an electrolyte without one is refused then).
     stern_conductance : array_like, optional
         Surface conductance of the Stern (immobile) layer [S], 0-1e-6; it adds
         perimeter/area x K_stern to the conduction and is carried by
@@ -76,11 +77,13 @@ class Wall:
         if surface is not None:
             if not hasattr(surface, "_pack"):
                 raise ValueError(f"surface must be an ekexplore.Surface, got {surface!r}")
-            if pH is None:
-                raise ValueError("pH: a wall with a surface needs the bulk pH [0, 14]")
             self._cond = "regulated"
-            self._value = surface._pack(pH)
-            self._surface, self._pH = surface, np.asarray(pH, dtype=float)
+            self._surface = surface
+            if pH is None:   # taken from the electrolyte when solved (it must have one)
+                self._value = None
+            else:
+                self._value = surface._pack(pH)
+                self._pH = np.asarray(pH, dtype=float)
         elif pH is not None:
             raise ValueError("pH: give it with a surface (it sets the surface charge)")
         elif zeta is not None:
@@ -106,8 +109,18 @@ class Wall:
 
     @property
     def pH(self):
-        """The bulk pH of a regulated wall, else None."""
+        """The bulk pH of a regulated wall (None: the electrolyte's), else None."""
         return self._pH
+
+    def _regulated_value(self, electrolyte):
+        """The packed surface rows, with the electrolyte's pH where none was given."""
+        if self._value is not None:
+            return self._value
+        pH = getattr(electrolyte, "pH", None)
+        if pH is None:
+            raise ValueError("pH: give Wall(surface=..., pH=...) [0, 14], or an electrolyte "
+                             "that has a pH")
+        return self._surface._pack(pH)
 
     @property
     def boundary(self):
@@ -139,7 +152,8 @@ class Wall:
     def shape(self):
         """Broadcast shape of the wall parameters."""
         if self._cond == "regulated":
-            return broadcast_named({"surface and pH": self._value.shape[1:],
+            own = self._surface.shape if self._value is None else self._value.shape[1:]
+            return broadcast_named({"surface and pH": own,
                                     "stern_conductance": self._stern.shape})
         name = "zeta" if self._cond == "potential" else "charge_density"
         return broadcast_named({name: self._value.shape,

@@ -703,7 +703,6 @@ def test_section_with_fixed_charge_sites_is_the_constant_charge_section():
 
 
 @pytest.mark.parametrize("make, words", [
-    (lambda: ek.Wall(surface=Surface.silica()), ["pH", "[0, 14]"]),
     (lambda: ek.Wall(surface=Surface.silica(), pH=15.0), ["pH", "15", "[0, 14]"]),
     (lambda: ek.Wall(zeta=-0.05, pH=7.0), ["pH", "surface"]),
     (lambda: ek.Wall(surface="silica", pH=7.0), ["surface", "Surface"]),
@@ -791,3 +790,19 @@ def test_regulated_walls_random_inputs_over_the_documented_range(m):
                             atol=1e-15)
             assert np.all((r.charged_fraction >= 0) & (r.charged_fraction <= 1))
             assert np.all(r.reciprocity_residual < 1e-6)
+
+
+def test_regulated_wall_takes_the_electrolytes_pH():
+    class Buffered(ek.Electrolyte):
+        pH = 8.2
+    e = Buffered(["K+", "Cl-"], [2.0, 2.0])
+    wall = ek.Wall(surface=Surface.silica())
+    r = ek.solve(ek.Slit(50e-9), e, wall, model="thin")
+    assert_allclose(r.wall_potential, bg_silica_scalar(2.0, 8.2)[0], rtol=1e-9)
+    # an explicit pH wins
+    r = ek.solve(ek.Slit(50e-9), e, ek.Wall(surface=Surface.silica(), pH=6.0), model="thin")
+    assert_allclose(r.wall_potential, bg_silica_scalar(2.0, 6.0)[0], rtol=1e-9)
+    plain = ek.Electrolyte.salt("KCl", 2.0)
+    if getattr(plain, "pH", None) is None:
+        with pytest.raises(ValueError, match=r"pH.*\[0, 14\]"):
+            ek.solve(ek.Slit(50e-9), plain, wall)
