@@ -35,6 +35,9 @@ PB_MIN_CELLS = 32
 PB_CHUNK_NODES = 131072
 #: Cells of the grid on which profiles are returned.
 PROFILE_CELLS = 200
+#: Points per chunk of the closed-form models: the thin model's flat-layer
+#: quadrature holds about 13 kB per point, so a chunk stays near 100 MB.
+CLOSED_FORM_CHUNK = 8192
 
 
 # --------------------------------------------------------------------------
@@ -310,6 +313,20 @@ def _profiles(b, shape, m, models, wall_potential):
 _KERNELS = {"thin": _thin, "dh": _dh, "pb": _pb}
 
 
+def _model_parts(b, m, chosen, accuracy):
+    """(index, output) of every model's points, in chunks that bound the memory
+    (pb chunks its grids itself)."""
+    for name in MODEL_NAMES:
+        idx = np.flatnonzero(chosen == name)
+        if name == "pb":
+            if idx.size:
+                yield idx, _pb(b.take(idx), m, accuracy)
+            continue
+        for i in range(0, idx.size, CLOSED_FORM_CHUNK):
+            part = idx[i:i + CLOSED_FORM_CHUNK]
+            yield part, _KERNELS[name](b.take(part), m)
+
+
 def transport_1d(m, half_size, cond, models, options):
     """Kernel for slit (m = 0) and tube (m = 1): see ``ekexplore._state``.
 
@@ -319,13 +336,7 @@ def transport_1d(m, half_size, cond, models, options):
     b = cond.flat(half_size)
     chosen = np.broadcast_to(np.asarray(models), cond.shape).reshape(b.B)
     accuracy = options.get("accuracy") or 1e-6
-    parts = []
-    for name in MODEL_NAMES:
-        idx = np.flatnonzero(chosen == name)
-        if idx.size:
-            args = (accuracy,) if name == "pb" else ()
-            parts.append((idx, _KERNELS[name](b.take(idx), m, *args)))
-    out = _gather(b.B, parts)
+    out = _gather(b.B, _model_parts(b, m, chosen, accuracy))
     est = options.get("model_errors")
     if est is not None:
         # a closed-form model's error is the a-priori estimate that chose it

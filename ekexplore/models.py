@@ -70,6 +70,11 @@ class ModelSpec:
         How its error estimate is obtained.
     safety : dict
         Safety factor name -> (value, reason).
+    accurate_error : float
+        Largest estimated error at which a forced model is still in its
+        range; beyond it ``solve`` issues a ``ModelRangeWarning`` [-].
+    accurate_range : str
+        That range in words.
     """
 
     name: str
@@ -79,6 +84,8 @@ class ModelSpec:
     validated: str
     error: str
     safety: dict = field(default_factory=dict)
+    accurate_error: float = 1.0
+    accurate_range: str = ""
 
 
 MODEL_TABLE = {
@@ -88,6 +95,8 @@ MODEL_TABLE = {
                 "conduction of any ion mixture",
         kappa_size=KAPPA_SIZE_RANGE, potential=(0.0, PHI_MAX),
         validated="accurate when kappa*half-size >> 1 (error about (m+1)/K)",
+        accurate_error=0.1,
+        accurate_range="estimated error at most 10 %: kappa*half-size above about 15",
         error="G/(1-G) with G the Debye-Hueckel mean-potential factor at kappa*half-size, "
               "times a safety factor",
         safety={"thin": (1.5, "G/(1-G) is exact for the electro-osmotic coefficient in the "
@@ -102,6 +111,8 @@ MODEL_TABLE = {
                 "solves; conduction to second order in zeta",
         kappa_size=KAPPA_SIZE_RANGE, potential=(0.0, PHI_MAX),
         validated="accurate when Phi << 1 (error about Phi^2/48 in conduction)",
+        accurate_error=0.1,
+        accurate_range="estimated error at most 10 %: max|z| e|zeta|/kT below about 0.3-1",
         error="G (sinh(Phi)/Phi - 1) + (1-G) ((cosh(Phi/2)-1)/(Phi^2/8) - 1) + "
               "|sum z^3 w| Phi/2, times safety factors",
         safety={"dh": (3.0, "the blend of the thin-layer and overlapped limits with G is an "

@@ -104,17 +104,25 @@ class Profiles(FieldTotals):
         VT = b.VT[:, None]
         z = b.z
         em1 = np.expm1(-z[:, None, None] * phi[None])
-        conc = b.c[:, :, None] * (em1 + 1.0)
-        fvals = np.sum(b.charge_weights[:, :, None] * em1, axis=0)
+        dh = (models == "dh")[:, None]
+        thin = (models == "thin")[:, None]
+        # dh: the model's own linear charge and second-order concentrations,
+        # so that the profiles add up to its coefficients
+        zp = z[:, None, None] * phi[None]
+        conc = b.c[:, :, None] * np.where(dh[None], 1.0 - zp + 0.5 * zp**2, em1 + 1.0)
+        fvals = np.where(dh, -phi, np.sum(b.charge_weights[:, :, None] * em1, axis=0))
         rho = (b.eps * b.kappa**2)[:, None] * VT * fvals
         eta = b.eta[:, None]
         up = pressure_gradient * R**2 / eta * grid.poiseuille
         phi_w = phi[:, :1]
-        ueo = b.eps[:, None] / eta * VT * (phi - phi_w) * field
-        thin = (models == "thin")[:, None]
-        ueo = np.where(thin, -b.eps[:, None] / eta * VT * phi_w * field * np.ones_like(phi), ueo)
+        ueo_layer = b.eps[:, None] / eta * VT * (phi - phi_w) * field
+        # thin: the model's velocity is the slip (plug) velocity everywhere, but
+        # the charge it convects is that of the Gouy-Chapman layer moving with
+        # the layer's own velocity (the slip is reached across the layer)
+        ueo = np.where(thin, -b.eps[:, None] / eta * VT * phi_w * field * np.ones_like(phi),
+                       ueo_layer)
         mig = np.sum(b.molar_conductivity[:, :, None] * conc, axis=0) * field
-        conv = rho * (up + ueo)
+        conv = rho * (up + ueo_layer)
 
         def rs(a):
             return a.reshape(shape + (n,))

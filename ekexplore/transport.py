@@ -17,10 +17,58 @@ from ._validate import (broadcast_named, check_choice, check_finite_result, chec
                         check_range, check_scalar)
 from .channels import Channel
 from .electrolyte import Electrolyte
-from .models import ERROR_METHOD, MODEL_CHOICES, PHI_MAX, auto_choice
+from .models import ERROR_METHOD, MODEL_CHOICES, MODEL_TABLE, PHI_MAX, auto_choice
 from .wall import Wall
 
-__all__ = ["solve", "Result", "MODEL_CHOICES"]
+__all__ = ["solve", "Result", "MODEL_CHOICES", "ModelRangeWarning", "CrowdingWarning",
+           "ImpossibleResultWarning", "CROWDING_LIMIT"]
+
+#: Wall concentration of a counter-ion [mol/m³] above which the point-ion
+#: (Poisson–Boltzmann) picture is questionable: at 1 mol/L hydrated ions of
+#: about 0.6-0.7 nm fill of the order of 10-20 % of the volume, and steric
+#: (finite ion size) effects, which the model leaves out, start to limit the
+#: crowding (Kilic, Bazant & Ajdari 2007, Phys. Rev. E 75, 021502,
+#: doi:10.1103/PhysRevE.75.021502; common practice).
+CROWDING_LIMIT = 1000.0
+
+
+class ModelRangeWarning(UserWarning):
+    """A model was forced outside the range where it is accurate."""
+
+
+class CrowdingWarning(UserWarning):
+    """Counter-ions at the wall are too concentrated for point ions."""
+
+
+class ImpossibleResultWarning(UserWarning):
+    """A coupling matrix that is not positive definite, a counter-ion share
+    outside [0, 1] or an efficiency above 1: the model is outside its range."""
+
+
+def _first(mask, values):
+    return values[np.unravel_index(int(np.flatnonzero(mask)[0]), mask.shape)]
+
+
+def _warn_model_ranges(cond, half_size, models, estimates):
+    """Warn where thin or dh was forced outside its accurate range (model table)."""
+    import warnings
+    K = cond.kappa * np.broadcast_to(half_size, cond.shape)
+    for name in ("thin", "dh"):
+        sel = np.asarray(models) == name
+        if not np.any(sel) or estimates is None:
+            continue
+        spec = MODEL_TABLE[name]
+        bad = sel & (estimates[name] > spec.accurate_error)
+        if not np.any(bad):
+            continue
+        k = np.unravel_index(int(np.argmax(np.where(bad, estimates[name], -1.0))), bad.shape)
+        warnings.warn(
+            f"model={name!r} is outside its range at {int(bad.sum())} of {bad.size} points "
+            f"({spec.accurate_range}); worst at kappa*half_size = {float(K[k]):.3g}: "
+            f"estimated error {float(estimates[name][k]):.3g}, "
+            f"{float(estimates[name][k]) / spec.accurate_error:.3g} times the "
+            f"{spec.accurate_error:g} limit; use model='auto' or 'pb'",
+            ModelRangeWarning, stacklevel=3)
 
 
 def _conditions(channel, electrolyte, wall):
@@ -50,15 +98,16 @@ def _conditions(channel, electrolyte, wall):
 
 
 def _models(channel, cond, model, tol):
-    """The model of every point (the ``auto`` choice where asked) and, for
-    ``auto``, the a-priori error estimates of the closed-form models."""
-    if model != "auto":
-        return np.full(cond.shape, model), None
+    """The model of every point (the ``auto`` choice where asked) and the
+    a-priori error estimates of the closed-form models (every model: a thin
+    or dh result always carries its estimate)."""
     half = np.broadcast_to(channel.half_size, cond.shape)
     factor = np.broadcast_to(channel.perimeter * channel.half_size / channel.area, cond.shape)
     b = cond.flat(half)
     geometry = channel.kind if channel.kind in ("slit", "tube") else "section"
     chosen, est = auto_choice(b, geometry, factor.reshape(-1), tol)
+    if model != "auto":
+        chosen = np.full(b.B, model)
     return (chosen.reshape(cond.shape),
             {k: np.broadcast_to(v, (b.B,)).reshape(cond.shape) for k, v in est.items()})
 
@@ -144,14 +193,21 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None):
     models, estimates = _models(channel, cond, model, tol)
     out = channel._kernel(cond, models, {"accuracy": accuracy, "model_errors": estimates})
     if cond.wall_condition != "potential":
+        # the same range for every model (model table): a linear (dh) wall
+        # potential of kilovolts is refused like a pb one
         phi = np.abs(out["wall_potential"]) / cond.thermal_voltage * zmax
-        over = (phi > PHI_MAX) & (np.asarray(out["model"]) == "pb")
+        over = phi > PHI_MAX
         if np.any(over):
             bad = float(np.max(np.abs(out["wall_potential"])[over]))
-            raise ValueError(f"charge_density gives a wall potential of {bad:g} V, beyond the "
-                             f"solver range |z e zeta/kT| <= {PHI_MAX:g}; lower the charge "
-                             "or raise the concentration")
-    return Result(channel, electrolyte, wall, cond, out, model, tol)
+            name = str(_first(over, np.broadcast_to(out["model"], over.shape)))
+            raise ValueError(f"charge_density gives a wall potential of {bad:g} V under "
+                             f"model={name!r}, beyond the range |z e zeta/kT| <= {PHI_MAX:g} "
+                             "of every model; lower the charge or raise the concentration")
+    if model != "auto":
+        _warn_model_ranges(cond, channel.half_size, out["model"], estimates)
+    result = Result(channel, electrolyte, wall, cond, out, model, tol)
+    result._check()
+    return result
 
 
 class Result:
@@ -319,13 +375,69 @@ class Result:
         return self.conductive - self.bulk_conductivity
 
     @property
-    def dukhin(self):
-        """Dukhin number: surface over bulk conduction, (L22 - K_bulk)/K_bulk [-].
+    def surface_conductance(self):
+        """Surface conductance K_sigma = (L22 - K_bulk) A/P [S]: diffuse and Stern layers."""
+        return self.surface_conductivity_excess / self._p_over_a
 
-        Equal to K_sigma/(K_bulk A/P) with K_sigma the total surface
-        conductance (diffuse and Stern).
+    @property
+    def dukhin(self):
+        """Dukhin number Du = K_sigma / (K_bulk a) [-], with a the half-size
+        (the radius of a tube, the half-gap of a slit).
+
+        The definition of the IUPAC report (Delgado et al. 2005, Pure Appl.
+        Chem. 77, 1753, doi:10.1351/pac200577101753) with the channel's
+        half-size as the length. Surface over bulk conduction,
+        (L22 - K_bulk)/K_bulk, equals Du times P a/A: Du for a slit, 2 Du for
+        a tube.
         """
-        return self.surface_conductivity_excess / self.bulk_conductivity
+        half = np.broadcast_to(self.channel.half_size, self.matrix.shape[:-2])
+        return self.surface_conductance / (self.bulk_conductivity * half)
+
+    @property
+    def wall_concentrations(self):
+        """Ion concentrations at the wall, c_i exp(-z_i e zeta/kT) [mol/m³],
+        shape (n_ions, ...) (Boltzmann; for dh the same formula is used,
+        as an indication)."""
+        phi = self.wall_potential / self._cond.thermal_voltage
+        return self._cond.concentrations * np.exp(np.minimum(-self._cond.z_b() * phi, 700.0))
+
+    @property
+    def physical(self):
+        """True where the matrix is positive definite, the counter-ion share in
+        [0, 1] and the maximum efficiency at most 1 (False flags a model used
+        outside its range; :class:`ImpossibleResultWarning` is issued too)."""
+        M = self.matrix
+        sym = 0.25 * (M[..., 0, 1] + M[..., 1, 0])**2
+        pd = (M[..., 0, 0] > 0) & (M[..., 1, 1] > 0) & (M[..., 0, 0] * M[..., 1, 1] > sym)
+        share = self.counterion_share
+        eps = 1e-9
+        return pd & (share >= -eps) & (share <= 1 + eps) & (self.coupling_degree <= 1)
+
+    def _check(self):
+        """Warn, naming the numbers, where a result is impossible or crowded."""
+        import warnings
+        ok = self.physical
+        if not np.all(ok):
+            bad = ~ok
+            k = np.unravel_index(int(np.flatnonzero(bad)[0]), bad.shape)
+            warnings.warn(
+                f"{int(bad.sum())} of {bad.size} results are not physical (model "
+                f"{str(self.model[k])!r} at kappa*half_size = {float(self.kappa_size[k]):.3g}: "
+                f"coupling degree {float(self.coupling_degree[k]):.3g}, counter-ion share "
+                f"{float(self.counterion_share[k]):.3g}); the model is outside its range, "
+                "use model='auto' or 'pb'. Result.physical flags them.",
+                ImpossibleResultWarning, stacklevel=3)
+        cw = np.max(self.wall_concentrations, axis=0)
+        crowded = cw > CROWDING_LIMIT
+        if np.any(crowded):
+            k = np.unravel_index(int(np.argmax(np.where(crowded, cw, -1.0))), crowded.shape)
+            warnings.warn(
+                f"counter-ions at the wall reach {float(cw[k]) / 1000:.3g} mol/L at "
+                f"{int(crowded.sum())} of {crowded.size} points, above "
+                f"{CROWDING_LIMIT / 1000:g} mol/L: steric (finite ion size) effects, which "
+                "the point-ion Poisson-Boltzmann model leaves out, limit the crowding there; "
+                "treat zeta and the conduction as upper estimates",
+                CrowdingWarning, stacklevel=3)
 
     @property
     def coupling_degree(self):

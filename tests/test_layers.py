@@ -28,6 +28,7 @@ LAYERS = {
     "transport": 10,
     "regimes": 11,
     "sweep": 12,
+    "_serve": 13,   # the dashboard server (dashboards layer)
 }
 
 

@@ -1,5 +1,6 @@
 """Profiles across the section: units, values at the wall and the centre, tables."""
 import numpy as np
+import pytest
 from numpy.testing import assert_allclose
 from scipy import constants
 
@@ -34,3 +35,28 @@ def test_profiles_for_every_model_and_batches():
         p = r.profiles()
         assert p.potential.shape[0] == 2
         assert np.all(np.isfinite(p.potential))
+
+
+@pytest.mark.parametrize("salt", ["KCl", "CaCl2"])
+@pytest.mark.parametrize("model", ["thin", "dh", "pb"])
+@pytest.mark.parametrize("shape, size", [(ek.Slit, 100e-9), (ek.Tube, 100e-9), (ek.Slit, 2e-6),
+                                         (ek.Tube, 20e-9)])
+def test_profiles_add_up_to_their_coefficients(salt, model, shape, size):
+    # The mean of the current-density profile over the section must be the
+    # model's own L21 G + L22 E (charge conservation of the model: what the
+    # profiles show is what the coefficients count), to the accuracy the result
+    # reports or the profile grid's quadrature (1e-4), whichever is larger.
+    # Integrated here with the trapezoid rule in the coordinate (slit: dy/R;
+    # tube: 2 r dr / R^2), independently of the solver's finite volumes.
+    e = ek.Electrolyte.salt(salt, 1.0)
+    r = ek.solve(shape(size), e, ek.Wall(zeta=-0.025), model=model)
+    G, E = 1e5, 1e3
+    p = r.profiles(G, E)
+    R = float(r.channel.half_size)
+    m = 0 if shape is ek.Slit else 1
+    x = p.coordinate
+    order = np.argsort(x)
+    w = (m + 1) * x**m / R**(m + 1)
+    mean = np.trapezoid((w * p.current_density)[order], x[order])
+    want = float(r.streaming) * G + float(r.conductive) * E
+    assert abs(mean / want - 1.0) <= max(float(r.error_estimate), 1e-4)

@@ -58,7 +58,10 @@ def test_derived_quantities_match_their_definitions():
     assert_allclose(r.streaming_potential_coefficient, -L21 / L22)
     assert_allclose(r.electroviscous_ratio, L11 / (L11 - L12 * L21 / L22))
     assert r.electroviscous_ratio > 1
-    assert_allclose(r.dukhin, (L22 - float(e.conductivity())) / float(e.conductivity()))
+    # IUPAC (Delgado et al. 2005, Pure Appl. Chem. 77, 1753, doi:10.1351/pac200577101753):
+    # Du = K_sigma/(K_b a); in a tube K_sigma = (L22 - K_b) A/P = (L22 - K_b) a/2
+    Kb = float(e.conductivity())
+    assert_allclose(r.dukhin, (L22 - Kb) / Kb / 2.0)
     dp, Q = r.pump_limits(voltage=100.0, length=1e-3)
     assert_allclose(dp, L12 * 100.0 / L11)
     assert_allclose(Q, float(ch.area) * L12 * 100.0 / 1e-3)
@@ -70,6 +73,19 @@ def test_derived_quantities_match_their_definitions():
     rw = ek.solve(ek.Tube(diameter=1e-3), e, ek.Wall(zeta=-0.02), model="thin")
     smol = float(e.permittivity) * -0.02 / (float(e.viscosity) * float(e.conductivity()))
     assert_allclose(float(rw.streaming_potential_coefficient), smol, rtol=1e-3)
+
+
+def test_dukhin_number_is_the_iupac_one_in_thin_layers():
+    # Thin layers: K_sigma is Bikerman's diffuse-layer conductance plus the Stern
+    # one (Bikerman 1940, Trans. Faraday Soc. 36, 154, doi:10.1039/TF9403600154), and
+    # Du = K_sigma/(K_b a) (Delgado et al. 2005, doi:10.1351/pac200577101753), a the
+    # tube radius; curvature corrections are of order 1/(kappa a) = 1e-3 here.
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    a = 10e-6
+    r = ek.solve(ek.Tube(diameter=2 * a), e, ek.Wall(zeta=-0.1, stern_conductance=1e-9),
+                 model="pb")
+    Ks = float(ek.bikerman_conductance(e, -0.1)) + 1e-9
+    assert_allclose(float(r.dukhin), Ks / (float(e.conductivity()) * a), rtol=3e-3)
 
 
 def test_stern_conductance_adds_perimeter_over_area():

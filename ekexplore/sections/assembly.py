@@ -69,6 +69,25 @@ class Mesh:
     def n_nodes(self):
         return len(self.points)
 
+    def nbytes(self):
+        """Memory held by the mesh, its operators and what the solvers
+        attached to it (factorisation, flow profile, point tree) [bytes]."""
+        def sparse(a):
+            return a.data.nbytes + a.indices.nbytes + a.indptr.nbytes
+        total = sum(a.nbytes for a in (self.points, self.triangles, self.m, self.b,
+                                       self.element_area, self.wall_edges, self.wall,
+                                       self.interior))
+        total += sparse(self.K) + sparse(self.K_II) + sparse(self.K_IB)
+        if self._lu is not None:   # L and U: values and row indices
+            total += int(self._lu.nnz) * 12 + 8 * len(self.interior) * 2
+        for name in ("_flow",):
+            a = getattr(self, name, None)
+            if a is not None:
+                total += a.nbytes
+        if getattr(self, "_tree", None) is not None:
+            total += 3 * self.points.nbytes      # data, indices and nodes of the tree
+        return int(total)
+
     @property
     def lu_dirichlet(self):
         """Cached sparse LU of the Dirichlet stiffness (flow and harmonic extension)."""

@@ -18,6 +18,7 @@ from .._constants import F
 from ..coefficients import coefficients, dh_means, neutrality_charge, thin_means
 from ..wall import isolated_wall_charge, isolated_wall_potential
 from .extrapolation import DEFAULT_ACCURACY, N_MAX, refined, resolution, rich
+from .meshes import trim_mesh_cache
 from .profiles import section_profiles_factory
 from .solutions import gouy_scale, hydraulic, levels
 
@@ -149,6 +150,7 @@ def section_kernel(channel, cond, models, options):
         out["wall_potential"][k] = phi_w * bk.VT[0]
         out["wall_charge"][k] = sigma
         out["error"][k] = err
+        trim_mesh_cache()
     est = options.get("model_errors")
     if est is not None:
         for name in ("thin", "dh"):

@@ -78,14 +78,22 @@ def mesh_key(kind, dims, n, lam, gouy):
     return (kind, dims, int(n), lam, gouy)
 
 
-class _MeshCache:
-    """Least-recently-used meshes (with their factorisations), bounded by the
-    total number of nodes so that a sweep over large meshes cannot exhaust
-    memory. ``cache_info()`` counts hits and misses."""
+#: Memory bound of the mesh cache [bytes]: meshes with their operators,
+#: factorisations and flow solutions (measured by :meth:`Mesh.nbytes`).
+MESH_CACHE_BYTES = 256 * 2**20
 
-    def __init__(self, max_nodes=3_000_000, max_items=128):
+
+class _MeshCache:
+    """Least-recently-used meshes (with their factorisations), bounded in
+    bytes (:data:`MESH_CACHE_BYTES`, counting what the solvers attach to a
+    mesh later, such as its factorisation) and in number, so that a sweep
+    over large meshes cannot exhaust memory. ``cache_info()`` counts hits and
+    misses."""
+
+    def __init__(self, max_bytes=None, max_items=128):
         self._d = OrderedDict()
-        self.max_nodes, self.max_items = max_nodes, max_items
+        self.max_bytes = MESH_CACHE_BYTES if max_bytes is None else max_bytes
+        self.max_items = max_items
         self.hits = self.misses = 0
         self._lock = threading.Lock()
 
@@ -100,10 +108,30 @@ class _MeshCache:
         with self._lock:
             self.misses += 1
             self._d[key] = mesh
-            while len(self._d) > 1 and (len(self._d) > self.max_items or sum(
-                    m.n_nodes for m in self._d.values()) > self.max_nodes):
-                self._d.popitem(last=False)
+            self._evict()
         return mesh
+
+    def trim(self):
+        """Evict down to the bounds again: meshes grow after insertion when the
+        solvers attach their factorisations (called after every solved point)."""
+        with self._lock:
+            self._evict()
+
+    def nbytes(self):
+        """Memory held by the cached meshes now [bytes]."""
+        with self._lock:
+            return sum(m.nbytes() for m in self._d.values())
+
+    def _evict(self):
+        sizes = [m.nbytes() for m in self._d.values()]
+        total = sum(sizes)
+        i = 0
+        while len(self._d) - i > 1 and (len(self._d) - i > self.max_items
+                                        or total > self.max_bytes):
+            total -= sizes[i]
+            i += 1
+        for _ in range(i):
+            self._d.popitem(last=False)
 
     def cache_info(self):
         return _CacheInfo(self.hits, self.misses, len(self._d))
@@ -116,6 +144,11 @@ class _MeshCache:
 
 _CacheInfo = namedtuple("CacheInfo", "hits misses currsize")
 _cached = _MeshCache()
+
+
+def trim_mesh_cache():
+    """Bring the mesh cache back under its byte bound (see :class:`_MeshCache`)."""
+    _cached.trim()
 
 
 def build_mesh(kind, dims, n, lam=None, gouy=None):

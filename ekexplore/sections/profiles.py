@@ -276,12 +276,15 @@ def section_profiles_factory(channel, cond, models, accuracy):
                 zc = np.max(np.abs(z))
                 phi = gouy_chapman_potential(zc, phi_w, np.exp(-dist / lam))
                 ueo_s = np.full_like(phi, -phi_w)
+                # the charge of the layer moves with the layer's own velocity
+                # (the slip is reached across it): what the coefficient counts
+                layer_s = phi - phi_w
             else:
                 gouy = gouy_scale(lam, z, value) if (name == "pb" and bk.wall.dirichlet) else None
                 mesh = build_mesh(kind, dims, n, lam, gouy)
                 r = scaled_solution(mesh, (kappa * L) ** 2, w, z, bk.wall.name, value, name)
                 phi, u = r["phi"], r["u"]
-                ueo_s = r["d"]
+                ueo_s = layer_s = r["d"]
             zc = z[:, None]
             if name == "dh":
                 conc = c[:, None] * (1.0 - zc * phi[None] + 0.5 * zc**2 * phi[None] ** 2)
@@ -292,7 +295,7 @@ def section_profiles_factory(channel, cond, models, accuracy):
             up = pressure_gradient * L**2 / eta * u
             ueo = field * eps * VT / eta * ueo_s
             mig = field * (lam_i @ conc)
-            conv = rho * (up + ueo)
+            conv = rho * (up + field * eps * VT / eta * layer_s)
             P = mesh.points * L
             centre = (mesh.m @ mesh.points) / mesh.area * L
             if kind == "polygon":
