@@ -31,6 +31,10 @@ from ekexplore.surface import Site, Surface
 E = constants.e
 KB = constants.k
 
+# thin and dh are forced here on purpose, also outside their accurate range, and
+# compared with independent solutions of the same model: their range warning is expected
+pytestmark = pytest.mark.filterwarnings("ignore:model=")
+
 
 def eps_water(T):
     """Malmberg & Maryott (1956) fit, written out here independently of the package."""
