@@ -5,6 +5,8 @@ The package reads like the physics: medium -> electrolyte -> wall -> channel
 """
 from .medium import water_relative_permittivity, water_permittivity, water_viscosity, water_density
 from .electrolyte import Ion, ION_TABLE, SALTS, Electrolyte, debye_length
+from . import chemistry, conductivity
+from .chemistry import AcidBase
 from .wall import (Wall, grahame_charge, grahame_potential, diffuse_layer_conductance,
                    bikerman_conductance)
 from .surface import Surface, Site
@@ -24,7 +26,7 @@ __all__ = [
     "sweep", "design_table", "read_sweep", "SweepError", "SweepWarning",
     "Rectangle", "Trapezoid", "IsotropicEtch", "Ellipse", "Polygon",
     "water_relative_permittivity", "water_permittivity", "water_viscosity", "water_density",
-    "Ion", "ION_TABLE", "SALTS", "Electrolyte", "debye_length",
+    "Ion", "ION_TABLE", "SALTS", "Electrolyte", "debye_length", "AcidBase",
     "Wall", "grahame_charge", "grahame_potential", "diffuse_layer_conductance",
     "bikerman_conductance", "Surface", "Site",
 ]

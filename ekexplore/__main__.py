@@ -24,7 +24,8 @@ import urllib.error
 import urllib.request
 from pathlib import Path
 
-from ._serve import ENV_TOKEN, is_loopback, is_wildcard
+# absolute: tests load this file on its own to reach free_port
+from ekexplore._serve import ENV_TOKEN, is_loopback, is_wildcard
 
 DASHBOARD_NAMES = ("explorer", "regimes", "device")
 #: A static file of Voila's page template: answers without starting a kernel.

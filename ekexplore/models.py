@@ -38,16 +38,22 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import special
 
+from ._validate import as_float_array, broadcast_named, check_positive
 from .doublelayer import PB_PHI_MAX, wall_potential_estimate
 
 __all__ = ["ModelSpec", "MODEL_TABLE", "MODEL_NAMES", "MODEL_CHOICES", "PHI_MAX",
            "KAPPA_SIZE_RANGE", "ERROR_METHOD", "estimated_model_errors", "choose_models",
-           "geometry_index", "auto_choice"]
+           "geometry_index", "auto_choice", "AccuracyWarning"]
 
 #: Largest scaled wall potential |z e zeta / kT| any model accepts (the pb solver's).
 PHI_MAX = PB_PHI_MAX
 #: kappa x half-size range any model accepts.
 KAPPA_SIZE_RANGE = (1e-3, 1e5)
+
+
+class AccuracyWarning(UserWarning):
+    """A numerical solve missed the requested accuracy; the result's
+    ``error_estimate`` says what was reached."""
 
 
 @dataclass(frozen=True)
@@ -209,7 +215,9 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     (True, True)
     """
     m = geometry_index(geometry)
-    K = np.asarray(kappa_half_size, dtype=float)
+    K = check_positive("kappa_half_size", kappa_half_size)
+    phi_wall = as_float_array("phi_wall", phi_wall)
+    broadcast_named({"kappa_half_size": K.shape, "phi_wall": phi_wall.shape})
     G = _mean_factor(m, K)
     thin = _SAFETY_THIN * G / np.maximum(1.0 - G, 1e-12)
     Phi = np.max(np.abs(valences)) * np.abs(np.asarray(phi_wall, dtype=float))

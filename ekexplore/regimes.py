@@ -5,6 +5,8 @@ The model table, the error estimates and the ``auto`` choice live in
 """
 from __future__ import annotations
 
+from ._validate import check_scalar
+
 __all__ = ["regime_verdict"]
 
 
@@ -27,6 +29,10 @@ def regime_verdict(kappa_size, slip_ratio, dukhin, counterion_share):
     >>> regime_verdict(0.8, 3.2, 5.0, 0.9)
     'double layers overlap: kappa*a = 0.8; the slip model overestimates electro-osmotic flow by 3.2x; surface conduction dominates (Du = 5); perm-selective: counter-ions carry 90% of the current'
     """
+    kappa_size = check_scalar("kappa_size", kappa_size, 0.0, None)
+    slip_ratio = check_scalar("slip_ratio", slip_ratio)
+    dukhin = check_scalar("dukhin", dukhin)
+    counterion_share = check_scalar("counterion_share", counterion_share)
     parts = []
     if kappa_size < 1:
         parts.append(f"double layers overlap: kappa*a = {kappa_size:.2g}")

@@ -25,6 +25,7 @@ import numpy as np
 
 from ._validate import as_float_array, check_choice, check_integer, check_scalar
 from .channels import SHAPES
+from .chemistry import BUFFERS
 from .electrolyte import SALTS, Electrolyte
 from .models import MODEL_CHOICES
 from .transport import solve
@@ -32,8 +33,8 @@ from .wall import Wall
 
 __all__ = ["sweep", "design_table", "read_sweep", "SweepError", "SweepWarning"]
 
-_ELECTROLYTE_KEYS = ("concentration", "temperature")
-_WALL_KEYS = ("zeta", "charge_density", "stern_conductance", "pH")
+_ELECTROLYTE_KEYS = ("concentration", "temperature", "pH")
+_WALL_KEYS = ("zeta", "charge_density", "stern_conductance")
 _RESULT_KEYS = ("hydraulic", "electroosmotic", "streaming", "conductive",
                 "reciprocity_residual", "streaming_potential_coefficient",
                 "electroviscous_ratio", "dukhin", "coupling_degree", "max_efficiency",
@@ -131,9 +132,9 @@ def _solve_rows(shape_name, salt, model, tol, length, cols, surface=None):
     n = len(cols["concentration"])
     if cls.kind == "section":  # one 2D solve per design
         results = [solve(cls(**{k: v[i] for k, v in shape_args.items()}),
-                         Electrolyte.salt(salt, cols["concentration"][i],
-                                          **({"temperature": cols["temperature"][i]}
-                                             if "temperature" in cols else {})),
+                         Electrolyte.named(salt, cols["concentration"][i],
+                                           **{k: cols[k][i] for k in ("temperature", "pH")
+                                              if k in cols}),
                          Wall(**{k: v[i] for k, v in w_kw.items()}), model=model, tol=tol)
                    for i in range(n)]
         rkeys = _RESULT_KEYS + (_SURFACE_KEYS if surface is not None else ())
@@ -144,8 +145,8 @@ def _solve_rows(shape_name, salt, model, tol, length, cols, surface=None):
                 out[k] = np.array([float(r.conductances(length)[k]) for r in results])
         return out
     channel = cls(**shape_args)
-    e_kw = {"temperature": cols["temperature"]} if "temperature" in cols else {}
-    electrolyte = Electrolyte.salt(salt, cols["concentration"], **e_kw)
+    e_kw = {k: cols[k] for k in ("temperature", "pH") if k in cols}
+    electrolyte = Electrolyte.named(salt, cols["concentration"], **e_kw)
     r = solve(channel, electrolyte, Wall(**w_kw), model=model, tol=tol)
     rkeys = _RESULT_KEYS + (_SURFACE_KEYS if surface is not None else ())
     out = {k: np.broadcast_to(getattr(r, k), (n,)).copy() for k in rkeys}
@@ -351,13 +352,17 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
     grid, table, **fixed
         The designs, see :func:`design_table`. Names are the shape's
         parameters (e.g. ``gap``, ``diameter``, ``width``, ``depth``),
-        ``concentration`` [mol/m³] (required), ``temperature`` [K], ``zeta``
+        ``concentration`` [mol/m³] (required), ``temperature`` [K], ``pH``, ``zeta``
         [V] or ``charge_density`` [C/m²] (one is required, unless ``surface``
-        is given: then ``pH`` is) and ``stern_conductance`` [S].
+        is given) and ``stern_conductance`` [S].
     shape : str
         A name in :data:`ekexplore.SHAPES`.
     salt : str
-        A preset in :data:`ekexplore.SALTS`.
+        A preset in :data:`ekexplore.SALTS`, or a buffer of
+        :data:`ekexplore.chemistry.BUFFERS`: then ``concentration`` is the
+        buffer's and ``pH`` (required) its target pH (see
+        :meth:`ekexplore.Electrolyte.named`). ``pH`` may also be given with a
+        salt; it is then only recorded (for pH-dependent walls).
     model, tol
         As in :func:`ekexplore.solve`.
     length : float, optional
@@ -391,7 +396,7 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
         does not exist, the sweep starts from scratch.
     surface : Surface, optional
         A wall whose charge follows the chemistry (:class:`ekexplore.Surface`)
-        for every design, with the bulk ``pH`` as a design parameter; the
+        for every design, at the electrolyte's pH (``pH`` a design parameter); the
         results then hold the solved ``wall_potential`` (zeta) and
         ``wall_charge``, and ``charged_fraction``.
     time_limit : float, optional
@@ -445,7 +450,7 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
     import pandas as pd
 
     check_choice("shape", shape, tuple(SHAPES))
-    check_choice("salt", salt, tuple(SALTS))
+    check_choice("salt", salt, tuple(SALTS) + tuple(BUFFERS))
     check_choice("model", model, MODEL_CHOICES)
     check_choice("on_error", on_error, ("record", "raise"))
     tol = check_scalar("tol", tol, 1e-6, 1.0)
@@ -467,9 +472,9 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
     if surface is not None:
         if not hasattr(surface, "_pack"):
             raise ValueError(f"surface must be an ekexplore.Surface, got {surface!r}")
-        if "pH" not in cols or any(k in cols for k in ("zeta", "charge_density")):
-            raise ValueError("sweep: with a surface give 'pH' (and neither 'zeta' nor "
-                             "'charge_density')")
+        if any(k in cols for k in ("zeta", "charge_density")):
+            raise ValueError("sweep: with a surface give neither 'zeta' nor 'charge_density' "
+                             "(the pH of the electrolyte, a design parameter, sets the charge)")
     elif not any(k in cols for k in ("zeta", "charge_density")):
         raise ValueError("sweep: give 'zeta' [V] or 'charge_density' [C/m^2]")
     known = set(SHAPES[shape].parameters) | set(_ELECTROLYTE_KEYS) | set(_WALL_KEYS)

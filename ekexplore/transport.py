@@ -30,6 +30,8 @@ __all__ = ["solve", "Result", "MODEL_CHOICES", "ModelRangeWarning", "CrowdingWar
 #: crowding (Kilic, Bazant & Ajdari 2007, Phys. Rev. E 75, 021502,
 #: doi:10.1103/PhysRevE.75.021502; common practice).
 CROWDING_LIMIT = 1000.0
+#: Default time a 2D solve may spend refining toward its accuracy [s].
+DEFAULT_TIME_BUDGET = 60.0
 
 
 class ModelRangeWarning(UserWarning):
@@ -112,7 +114,8 @@ def _models(channel, cond, model, tol):
             {k: np.broadcast_to(v, (b.B,)).reshape(cond.shape) for k, v in est.items()})
 
 
-def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None):
+def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None,
+          time_budget=DEFAULT_TIME_BUDGET):
     r"""Compute the electrokinetic coupling matrix and the profiles behind it.
 
     Parameters
@@ -133,6 +136,13 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None):
         Target relative accuracy of the numerical solutions [-], 1e-9 to 0.1.
         Default None: each kernel's own, 1e-6 for slit and tube (pb), 1e-3 for
         2D sections (about 0.05 s a point; 1e-6 there costs about 2 s).
+    time_budget : float or None
+        Seconds a 2D solve may spend refining to reach ``accuracy`` [s],
+        0.1 to 1e5, default 60; None: no limit. Every point is solved at
+        least at the resolution ``accuracy`` asks a priori; a point that
+        misses the accuracy after refining (finest resolution or budget
+        reached) issues an ``ekexplore.models.AccuracyWarning``, and its
+        ``error_estimate`` says what was reached.
 
     Returns
     -------
@@ -180,6 +190,8 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None):
     tol = check_scalar("tol", tol, 1e-6, 1.0)
     if accuracy is not None:
         accuracy = check_scalar("accuracy", accuracy, 1e-9, 0.1)
+    if time_budget is not None:
+        time_budget = check_scalar("time_budget", time_budget, 0.1, 1e5)
     cond = _conditions(channel, electrolyte, wall)
     K = cond.kappa * np.broadcast_to(channel.half_size, cond.shape)
     check_range("kappa*half_size", K, 1e-3, 1e5,
@@ -191,7 +203,8 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None):
                     PHI_MAX * cond.thermal_voltage.min() / zmax, unit="V",
                     hint=f"|z e zeta/kT| must stay below {PHI_MAX:g}")
     models, estimates = _models(channel, cond, model, tol)
-    out = channel._kernel(cond, models, {"accuracy": accuracy, "model_errors": estimates})
+    out = channel._kernel(cond, models, {"accuracy": accuracy, "model_errors": estimates,
+                                         "time_budget": time_budget})
     if cond.wall_condition != "potential":
         # the same range for every model (model table): a linear (dh) wall
         # potential of kilovolts is refused like a pb one
@@ -502,8 +515,8 @@ class Result:
 
     def profiles(self, pressure_gradient=1.0, field=1.0):
         """Profiles across the section for -dp/dx [Pa/m] and E [V/m]; see ``Profiles``."""
-        G = float(check_range("pressure_gradient", pressure_gradient, -1e15, 1e15, unit="Pa/m"))
-        E = float(check_range("field", field, -1e9, 1e9, unit="V/m"))
+        G = check_scalar("pressure_gradient", pressure_gradient, -1e15, 1e15, unit="Pa/m")
+        E = check_scalar("field", field, -1e9, 1e9, unit="V/m")
         return self._out["profiles"](G, E)
 
     def as_dict(self):

@@ -525,7 +525,7 @@ def diffuse_layer_conductance(electrolyte, zeta):
     >>> e = Electrolyte.salt("KCl", 1.0)
     >>> mig, conv = diffuse_layer_conductance(e, -0.1)
     >>> f"{float((mig + conv).sum()) * 1e9:.2f} nS"
-    '1.10 nS'
+    '1.09 nS'
     """
     zeta = check_range("zeta", zeta, -ZETA_MAX, ZETA_MAX, unit="V")
     I_mig, I_conv, _ = _flat_wall_integrals(electrolyte, zeta)
@@ -573,7 +573,7 @@ def bikerman_conductance(electrolyte, zeta):
     >>> from ekexplore import Electrolyte
     >>> e = Electrolyte.salt("KCl", 1.0)
     >>> f"{float(bikerman_conductance(e, -0.1)) * 1e9:.2f} nS"
-    '1.10 nS'
+    '1.09 nS'
     """
     zeta = check_range("zeta", zeta, -ZETA_MAX, ZETA_MAX, unit="V")
     zs = electrolyte.valences

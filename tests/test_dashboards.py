@@ -361,3 +361,21 @@ def test_code_cell_is_readable_and_quotes_every_name():
                      "voltage", "pressure_drop", "channels", "c", "flow", "current", "float"}
     consts = [n.value for n in ast.walk(tree) if isinstance(n, ast.Constant)]
     assert evil in consts and st.salt in consts
+
+
+def test_typing_box_is_checked_in_the_kernel_not_clamped_in_the_browser():
+    # a slider's own readout is clamped by the browser to the slider's range
+    # before the kernel sees it; the dashboards type into a box checked here
+    v = ExplorerView(State())
+    c = v.controls
+    assert not c.concentration.readout
+    box = c.entry(c.concentration)
+    box.value = 0.0
+    assert v.status.kind == "error"
+    assert "salt conc. 0 mM: enter a value from 0.0001 to 5000 mM" in v.status.message
+    assert box.value == 1.0 and v.state.concentration == 1.0
+    box.value = 2000.0                                 # above the slider: widens it
+    assert v.state.concentration == 2000.0 and 10 ** c.concentration.max >= 2000.0
+    assert v.status.kind == "ok"
+    c.zeta.value = -30.0                               # the slider moves the box
+    assert c.entry(c.zeta).value == -30.0

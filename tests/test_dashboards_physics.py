@@ -95,14 +95,14 @@ def grahame(c, zeta):
 
 # ---- reading the screen ---------------------------------------------------------
 #: SI prefixes, BIPM SI Brochure (2019), Table 7
-PREFIX = {"f": 1e-15, "p": 1e-12, "n": 1e-9, "µ": 1e-6, "m": 1e-3, "": 1.0, "k": 1e3,
+PREFIX = {"a": 1e-18, "f": 1e-15, "p": 1e-12, "n": 1e-9, "µ": 1e-6, "m": 1e-3, "": 1.0, "k": 1e3,
           "M": 1e6, "G": 1e9}
 NUMBER = r"(-?\d+(?:\.\d+)?(?:e[+-]?\d+)?)"
 
 
 def read(text, unit):
     """'1.65 nL/min', 'L/min' -> 1.65e-9 (in the unit without prefix)."""
-    m = re.fullmatch(rf"\s*{NUMBER}\s*([fpnµmkMG]?){re.escape(unit)}\s*", text)
+    m = re.fullmatch(rf"\s*{NUMBER}\s*([afpnµmkMG]?){re.escape(unit)}\s*", text)
     assert m, f"{text!r} does not read as a number in [prefix]{unit}"
     return float(m.group(1)) * PREFIX[m.group(2)]
 
@@ -331,3 +331,12 @@ def test_uncharged_wall_works_on_every_page(view, wall):
     v = view(State(**wall), **kw)
     assert v.status.kind == "ok", v.status.message
     assert "division" not in v.status.message
+
+
+@pytest.mark.parametrize("view", [RegimesView, DeviceView])
+def test_forced_thin_out_of_range_is_said_on_the_other_pages(view):
+    kw = dict(n=6) if view is RegimesView else {}
+    v = view(State(model="thin", concentration=0.01, size=1e-7), **kw)
+    text = plain(v.readout.value)
+    assert "outside its range" in text and "error against pb" in text
+    assert not re.search(r"(\d{3,}|[2-9]\d\d?)(\.\d+)? %", text.split("maximum efficiency")[-1][:40])

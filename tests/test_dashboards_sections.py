@@ -182,3 +182,16 @@ def test_log_colour_scale_spans_decades_of_the_magnitude():
     assert_allclose(m.high / m.low, 10 ** v.LOG_DECADES, rtol=1e-9)
     # the wall potential |ζ| = 50 mV tops the scale
     assert_allclose(m.high, 50.0, rtol=0.02)
+
+
+def test_centreline_cut_has_no_gap_inside_the_section():
+    # a 100 x 50 um ellipse at 1 mM (thin layers, a mesh graded toward the wall)
+    v = ExplorerView(State(shape="Ellipse", shape_params={"width": 100e-6, "height": 50e-6}))
+    v.worker.wait(600)
+    c = v.last.images["centre"]
+    assert np.all(np.isfinite(c["velocity_pressure"])) and np.all(np.isfinite(c["potential"]))
+    # wall to wall: the cut spans the ellipse's width at its centre height
+    assert_allclose(c["x"][-1] - c["x"][0], 100e-6, rtol=1e-3)
+    # the pressure-driven velocity is zero at both walls (no slip) and largest inside
+    up = c["velocity_pressure"]
+    assert abs(up[0]) < 0.05 * up.max() and abs(up[-1]) < 0.05 * up.max()

@@ -61,6 +61,7 @@ def test_pressure_in_kpa(si, text):
 def test_prefixed_quantities_by_hand():
     assert U.current(3.2e-9) == "3.2 nA"
     assert U.current(-4.5e-12) == "-4.5 pA"
+    assert U.flow(4.82e-18 / 6e4) == "4.82 aL/min"    # 1 aL = 1e-18 L
     assert U.voltage(1500.0) == "1.5 kV"
     assert U.power(2.5e-3) == "2.5 mW"
     assert U.length(96.1e-9) == "96.1 nm"

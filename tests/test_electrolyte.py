@@ -148,10 +148,16 @@ def test_every_preset_is_electroneutral(name):
 @pytest.mark.parametrize("z", [1, 2, 3, 4])
 def test_symmetric_salt(z):
     c = 3.0
-    e = Electrolyte.symmetric(z, c, diffusivity_cation=1.1e-9, diffusivity_anion=1.7e-9)
+    # mobility="ideal": the given 25 degC diffusivities pass through unchanged
+    e = Electrolyte.symmetric(z, c, diffusivity_cation=1.1e-9, diffusivity_anion=1.7e-9,
+                              mobility="ideal")
     assert list(e.valences) == [z, -z]
     assert_allclose(e.ionic_strength, z**2 * c, rtol=1e-14)
     assert_allclose(e.diffusivities[:, ...], [1.1e-9, 1.7e-9], rtol=1e-13)
+    # the default lowers them with concentration (interionic friction), never raises
+    d = Electrolyte.symmetric(z, c, diffusivity_cation=1.1e-9,
+                              diffusivity_anion=1.7e-9).diffusivities
+    assert np.all(d < e.diffusivities) and np.all(d > 0)
     # Debye length of a z:z salt is that of a 1:1 salt at z^2 c (same I).
     assert_allclose(e.debye_length, debye_length(z**2 * c), rtol=1e-14)
 

@@ -12,7 +12,7 @@ ROOT = os.path.join(os.path.dirname(__file__), "..", "ekexplore")
 LAYERS = {
     "_constants": 0, "_validate": 0,
     "medium": 1,
-    "electrolyte": 2,
+    "electrolyte": 2, "chemistry": 2, "conductivity": 2,
     "wall": 3, "surface": 3,
     "doublelayer": 4, "_regulated": 4, "_state": 4,
     "models": 5,

@@ -55,7 +55,24 @@ def _bulk_advection(result):
     return result._cond.z_b() * F * result._cond.concentrations * result.electroosmotic
 
 
-def _sections_ion_current(new, old, result):
+def _refined_tolerance(old_error):
+    # A section point whose levels missed the accuracy after one refinement
+    # stopped there before (silently; e.g. Ellipse, charge wall, kappa a = 178:
+    # mesh error 6e-3 at n = 48 for accuracy 1e-3); since targets are met or
+    # said, it refines on as far as its estimate asks (n = 96: 2e-5). Such a
+    # point may move, but only within the error its old result reported.
+    return np.maximum(RTOL, old_error)
+
+
+def _sections_values(new, old, result, old_error):
+    if np.allclose(new, old, rtol=RTOL, atol=0.0):
+        return
+    tol = _refined_tolerance(old_error)
+    tol = tol.reshape(np.shape(tol) + (1,) * (np.ndim(new) - np.ndim(tol)))
+    assert np.all(np.abs(new - old) <= tol * np.abs(old)), "moved beyond the old error"
+
+
+def _sections_ion_current(new, old, result, old_error):
     # The 2D kernel counted each ion's convection as <c_i/c_i,b d>, which
     # includes the bulk advected at the electro-osmotic velocity, z_i F c_i
     # L12; the slit and tube kernels (and the counter-ion share's definition)
@@ -63,29 +80,45 @@ def _sections_ion_current(new, old, result):
     # model layer, sections count the excess too: the change must be exactly
     # that bulk term.
     bulk = _bulk_advection(result)
-    np.testing.assert_allclose(new + bulk, old, rtol=RTOL, atol=RTOL * np.max(np.abs(bulk)))
+    tol = _refined_tolerance(old_error)
+    scale = np.maximum(np.abs(old), np.max(np.abs(bulk)))
+    assert np.all(np.abs(new + bulk - old) <= tol * scale), "ion currents beyond the bulk term"
 
 
-def _sections_convection(new, old, result):
+def _sections_convection(new, old, result, old_error):
     # The old sum over ions included the bulk terms above, which cancel
     # (sum_i z_i c_i = 0) but leave a round-off of about 1e-16 of their size;
     # compare to 1e-12 of that size.
     bulk = _bulk_advection(result)
-    np.testing.assert_allclose(new, old, rtol=RTOL, atol=RTOL * np.max(np.abs(bulk)))
+    tol = _refined_tolerance(old_error)
+    assert np.all(np.abs(new - old) <= tol * np.maximum(np.abs(old), np.max(np.abs(bulk))))
+
+
+def result_label(result):
+    return type(result.channel).__name__
+
+
+def _sections_error(new, old, result, old_error):
+    # error estimates of section points: equal to round-off (1e-12 absolute,
+    # see ERROR_ATOL_SECTIONS), or lower where a point that missed its accuracy
+    # now refines further (see _refined_tolerance)
+    same = np.isclose(new, old, rtol=RTOL, atol=ERROR_ATOL_SECTIONS)
+    assert np.all(same | (new < old))
 
 
 def _forced_closed_form(label):
     return label.split("|")[3] in ("thin", "dh")
 
 
-def _forced_estimates(new, old, result):
+def _forced_estimates(new, old, result, old_error):
     # A thin or dh result asked for by name reported an error estimate of 0 in
     # slits and tubes, and only the mesh error in sections; it now carries the
     # a-priori estimate of the model table (the one auto uses), an upper bound
     # of its true error (tests/test_models.py). So it can only have grown, and
     # must be positive.
     assert np.all(new > 0)
-    assert np.all(new >= old)
+    if not _is_section(result_label(result)):
+        assert np.all(new >= old)
 
 
 #: Changes of the recorded numbers that are intended: (field, predicate on the
@@ -95,6 +128,10 @@ EXPLAINED: dict = {
     ("L22_convection", _is_section): _sections_convection,
     ("error_estimate", _forced_closed_form): _forced_estimates,
 }
+EXPLAINED[("error_estimate", lambda label: _is_section(label)
+            and not _forced_closed_form(label))] = _sections_error
+for _field in ("matrix", "L22_migration", "wall_potential", "wall_charge"):
+    EXPLAINED[(_field, _is_section)] = _sections_values
 
 # Ions with fixed diffusivities [m^2/s] (values of the order of K+, Cl-, Ca2+,
 # SO4 2-, Na+ at 25 C; only their being fixed matters here).
@@ -121,7 +158,9 @@ def electrolyte(salt, c, T):
         ions, conc = (_CATION2, _DIANION), (2.0 * c, c)
     else:   # three ions: 1 part C+, 0.5 part B2+, 2 parts X-
         ions, conc = (_CATION2, _DICATION, _ANION), (c, 0.5 * c, 2.0 * c)
-    return ek.Electrolyte(ions, conc, temperature=T)
+    # mobility="ideal": the recorded numbers predate the concentration- and
+    # temperature-dependent mobilities; this option reproduces that model exactly.
+    return ek.Electrolyte(ions, conc, temperature=T, mobility="ideal")
 
 
 MODELS = ("thin", "dh", "pb", "auto")
@@ -257,7 +296,7 @@ def test_numbers_unchanged(stored, i):
                   if field == f and applies(label)]
         if checks:
             for check in checks:
-                check(rec[f], ref, result)
+                check(rec[f], ref, result, stored[f"{i}/error_estimate"])
             continue
         atol = 0.0
         if f == "error_estimate":

@@ -253,3 +253,31 @@ def test_two_meshers_agree_for_a_charged_wall_with_thin_layers():
     tol = float(a.error_estimate + b.error_estimate)
     assert tol <= 2e-3
     assert_allclose(b.matrix, a.matrix, rtol=tol)
+
+
+def test_a_missed_accuracy_is_said(monkeypatch):
+    # Targets met or said: cap the resolution at the coarsest ladder step, so
+    # that accuracy 1e-6 cannot be reached; the result must carry an estimate
+    # above the target and an AccuracyWarning must say so.
+    import warnings
+    from ekexplore.models import AccuracyWarning
+    from ekexplore.sections import kernel
+    monkeypatch.setattr(kernel, "N_MAX", 16)
+    monkeypatch.setattr(kernel, "resolution", lambda accuracy: 16)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        r = ek.solve(Rectangle(60e-9, 30e-9), KCL, ek.Wall(zeta=-0.1), model="pb",
+                     accuracy=1e-6)
+    assert float(r.error_estimate) > 1e-6
+    said = [w for w in caught if issubclass(w.category, AccuracyWarning)]
+    assert len(said) == 1 and "missed the requested accuracy" in str(said[0].message)
+
+
+def test_a_met_accuracy_is_not_warned():
+    import warnings
+    from ekexplore.models import AccuracyWarning
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", AccuracyWarning)
+        r = ek.solve(Rectangle(60e-9, 30e-9), KCL, ek.Wall(zeta=-0.05), model="pb",
+                     accuracy=1e-3)
+    assert float(r.error_estimate) <= 1e-3

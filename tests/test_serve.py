@@ -20,6 +20,7 @@ import subprocess
 import sys
 import time
 import uuid
+from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import pytest
@@ -177,8 +178,11 @@ def test_kernel_cap_busy_page_and_culling_of_a_connected_idle_page(server):
     assert "All dashboard sessions are in use" in text and "at most 1 dashboard" in text
     assert "4 seconds" in text                                  # the stated idle time
     # the first page stays connected but idle: culled after CULL_IDLE s (+ interval)
-    gone, elapsed, still_open = asyncio.run(
-        _hold_connection_until_culled(port, kernel_id, cookie, timeout=60))
+    # in a thread of its own: a browser test may have left an event loop in this one
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        gone, elapsed, still_open = pool.submit(
+            asyncio.run, _hold_connection_until_culled(port, kernel_id, cookie, timeout=60)
+        ).result()
     assert gone, "the idle connected kernel was not culled within 60 s"
     assert still_open
     print(f"\nidle connected kernel culled {elapsed:.1f} s after its last message "

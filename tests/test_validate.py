@@ -215,3 +215,20 @@ def test_sweep_text_or_boolean_columns_refused_up_front(tmp_path):
     _raises(lambda: ek.sweep(grid={"gap": [1e-7]}, concentration=1.0, zeta=True), "zeta",
             "boolean")
     assert not (tmp_path / "run.csv").exists()
+
+
+# --- the other public helpers ----------------------------------------------------------
+
+def test_regime_helpers_name_bad_input():
+    _raises(lambda: ek.estimated_model_errors(None, 1.0), "kappa_half_size", "None")
+    _raises(lambda: ek.estimated_model_errors("1", 1.0), "kappa_half_size", "'1'")
+    _raises(lambda: ek.estimated_model_errors([1.0, 2.0], [1.0, 2.0, 3.0]),
+            "kappa_half_size has shape (2,)", "phi_wall has shape (3,)")
+    _raises(lambda: ek.regime_verdict(None, 1.0, 1.0, 0.5), "kappa_size", "None")
+    _raises(lambda: ek.regime_verdict(1.0, "2", 1.0, 0.5), "slip_ratio", "'2'")
+
+
+def test_profiles_field_must_be_one_number():
+    r = ek.solve(SLIT, KCL, WALL, model="dh")
+    _raises(lambda: r.profiles([1.0, 2.0]), "pressure_gradient must be a single number")
+    _raises(lambda: r.profiles(1.0, "1"), "field", "'1'")

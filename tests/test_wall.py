@@ -318,7 +318,9 @@ def test_total_conductance_vs_bikerman(salt, c, T, zeta):
     # written in Delgado et al. 2005, Pure Appl. Chem. 77, 1753,
     # doi:10.1351/pac200577101753 (closed form computed in the test). Both are
     # exact for the flat-wall Gouy-Chapman layer: agreement to 1e-11.
-    e = Electrolyte.salt(salt, c, temperature=T)
+    # mobility="ideal": the closed form below takes the Walden-scaled table
+    # diffusivities (Ion.diffusivity_at), the electrolyte's mobilities in that mode
+    e = Electrolyte.salt(salt, c, temperature=T, mobility="ideal")
     mig, conv = diffuse_layer_conductance(e, zeta)
     expected = _bikerman_in_test(e, zeta)
     assert_allclose(np.sum(mig + conv), expected, rtol=1e-11)
@@ -330,7 +332,7 @@ def test_bikerman_high_zeta_custom_salts(z):
     # Same closed form up to |z e zeta / kT| = 20 (the solver range), several
     # temperatures, unequal diffusivities.
     for T in (280.0, 320.0, 365.0):
-        e = Electrolyte.symmetric(z, 0.3, 0.7e-9, 2.5e-9, temperature=T)
+        e = Electrolyte.symmetric(z, 0.3, 0.7e-9, 2.5e-9, temperature=T, mobility="ideal")
         for zeta in (-min(20.0 * thermal_voltage(T) / z, ZETA_MAX),
                      12.0 * thermal_voltage(T) / z):
             mig, conv = diffuse_layer_conductance(e, zeta)
@@ -423,7 +425,7 @@ def test_wall_accepts_range_ends():
 
 def test_custom_ion_in_wall_functions():
     # any Ion works, not only table entries
-    e = Electrolyte([Ion("A+", 1, 1e-9), Ion("B-", -1, 1e-9)], [2.0, 2.0])
+    e = Electrolyte([Ion("A+", 1, 1e-9), Ion("B-", -1, 1e-9)], [2.0, 2.0], mobility="ideal")
     mig, conv = diffuse_layer_conductance(e, -0.05)
     assert_allclose(np.sum(mig + conv), _bikerman_in_test(e, -0.05), rtol=1e-11)
 

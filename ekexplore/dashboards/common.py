@@ -83,6 +83,10 @@ def new_figure(width, height, title="", x_label="", y_label="", x_log=False, y_l
     fig.axis.axis_label_text_font_style = "normal"
     fig.axis.major_label_text_font_size = "10px"
     fig.min_border_left = 50
+    from bokeh.models import LogTicker
+    for log, axis in ((x_log, fig.xaxis), (y_log, fig.yaxis)):
+        if log:   # decades and 2, 5 between: readable labels that never pile up
+            axis.ticker = LogTicker(desired_num_ticks=5, mantissas=[1, 2, 5])
     return fig
 
 
@@ -107,7 +111,7 @@ def download_link(filename, text_data, label):
 _COPY_JS = ("var b=this,t=b.closest('.ekx-code-box').querySelector('textarea');"
             "t.select();var ok=false;try{ok=document.execCommand('copy')}catch(e){}"
             "var say=function(x){b.textContent=x;setTimeout(function(){"
-            "b.textContent='⧉ Copy code'},2500)};"
+            "b.textContent='Copy code'},2500)};"
             "if(navigator.clipboard&&window.isSecureContext){navigator.clipboard.writeText("
             "t.value).then(function(){say('✓ copied')},function(){"
             "say(ok?'✓ copied':'select the text and press Ctrl+C')})}"
@@ -125,7 +129,7 @@ class CodeExport:
                                      tooltip="a Python cell that reproduces this computation "
                                              "through the public API")
         self.copy = w.HTML("<button class='ekx-copy' title='copy the cell to the clipboard' "
-                           f"onclick=\"{_COPY_JS}\">⧉ Copy code</button>")
+                           f"onclick=\"{_COPY_JS}\">Copy code</button>")
         self.box = w.VBox([self.copy, self.code], layout=w.Layout(display="none"))
         self.box.add_class("ekx-code-box")
         self.downloads = w.HTML()
@@ -221,6 +225,12 @@ class _Honest:
         else:
             rng = f"a value from {lo:g} to {hi:g} {self._h_unit}"
         self._h_reject(f"{self._h_name} {shown} {self._h_unit}: enter {rng}")
+        # the kernel keeps the old value, so no change is synced by itself: send it,
+        # so the box the user typed in shows the value in use again
+        try:
+            self.send_state("value")
+        except Exception:   # noqa: BLE001 - no front-end (tests, scripts)
+            pass
         return old
 
 
@@ -246,12 +256,12 @@ class HonestFloatText(_Honest, w.FloatText):
 def _slider():
     """Keyword arguments of a slider: a fresh Layout each time (a shared Layout
     would hide every widget at once)."""
-    return dict(continuous_update=False, style={"description_width": "125px"},
-                layout=w.Layout(width="335px"))
+    return dict(continuous_update=False, readout=False, style={"description_width": "150px"},
+                layout=w.Layout(width="300px"))
 
 
 def _text():
-    return dict(style={"description_width": "125px"}, layout=w.Layout(width="260px"))
+    return dict(style={"description_width": "150px"}, layout=w.Layout(width="260px"))
 
 
 #: What a typed value may be, per control, in the control's own units:
@@ -300,6 +310,8 @@ class SetupControls:
         s = state
         self.links = []
         self.rejections = []
+        self.entries = {}
+        self.rows = {}
         rej = self._reject
 
         def honest(widget, key, name, unit, log=False):
@@ -330,7 +342,9 @@ class SetupControls:
         self.stern = honest(HonestFloatText(description="Stern cond. [nS]", **_text()),
                             "stern", "Stern cond.", "nS")
         # channel
-        self.shape = w.Dropdown(options=listed_shapes(), description="shape", **_text())
+        self.shape = w.Dropdown(options=listed_shapes(), description="shape",
+                                style={"description_width": "150px"},
+                                layout=w.Layout(width="300px"))
         lo, hi = SIZE_RANGE
         self.size = honest(HonestFloatLogSlider(base=10, min=_log10(lo * 1e6),
                                                 max=_log10(hi * 1e6), step=0.02,
@@ -405,11 +419,53 @@ class SetupControls:
             rows += [section_title("Device"), self.channels, self.max_pressure,
                      self.max_voltage]
         self.stern.tooltip = "surface conductance of the Stern layer [nS]"
-        self.widget = w.VBox(rows, layout=w.Layout(width="345px", min_width="345px"))
+        rows = [self.row(r) for r in rows]
+        self._visibility()
+        self.widget = w.VBox(rows, layout=w.Layout(width="400px", min_width="400px"))
 
     def _reject(self, message):
         for f in self.rejections:
             f(message)
+
+    def entry(self, slider):
+        """The typing box of a slider (the slider's own readout is off: the
+        browser would clamp a typed value to the slider's range before the
+        kernel saw it). A typed value within the control's limits moves the
+        slider, widening its range if needed; outside them it is refused."""
+        box = self.entries.get(id(slider))
+        if box is not None:
+            return box
+        box = HonestFloatText(layout=w.Layout(width="86px"))
+        box.setup_honest(slider._h_name, slider._h_unit, slider._h_limits, self._reject)
+        box.tooltip = f"type a value [{slider._h_unit}]" if slider._h_unit else "type a value"
+
+        def show(v):
+            return float(f"{v:.4g}")
+
+        box.value = show(slider.value)
+
+        def from_box(change):
+            v, cur = change["new"], slider.value
+            if v == cur or (cur != 0 and abs(v - cur) <= 5e-4 * abs(cur)):
+                return
+            slider.value = v
+
+        def from_slider(change):
+            box.value = show(change["new"])
+
+        box.observe(from_box, "value")
+        slider.observe(from_slider, "value")
+        self.entries[id(slider)] = box
+        return box
+
+    def row(self, widget):
+        """A slider with its typing box; other widgets as they are."""
+        if isinstance(widget, (HonestFloatSlider, HonestFloatLogSlider)):
+            box = w.HBox([widget, self.entry(widget)])
+            box.layout.display = widget.layout.display
+            self.rows[id(widget)] = box
+            return box
+        return widget
 
     # -- shape parameters -------------------------------------------------------
     def _build_extra(self):
@@ -453,7 +509,7 @@ class SetupControls:
             wid.observe(lambda ch, p=p, scale=scale: self._param_from_widget(p, ch, scale),
                         "value")
             self.extra[p] = (wid, scale)
-        self.extra_box.children = [wid for wid, _ in self.extra.values()]
+        self.extra_box.children = [self.row(wid) for wid, _ in self.extra.values()]
 
     def _shape_from_state(self, change=None):
         self._build_extra()
@@ -486,9 +542,12 @@ class SetupControls:
     def _visibility(self, change=None):
         self.valence.layout.display = None if self.state.salt == CUSTOM else "none"
         zeta = self.state.wall_mode == "zeta"
-        self.zeta.layout.display = None if zeta else "none"
-        self.charge.layout.display = "none" if zeta else None
-        self.width.layout.display = None if self.state.shape == "Slit" else "none"
+        shown = {self.zeta: zeta, self.charge: not zeta,
+                 self.width: self.state.shape == "Slit"}
+        for wid, on in shown.items():
+            wid.layout.display = None if on else "none"
+            if id(wid) in self.rows:
+                self.rows[id(wid)].layout.display = None if on else "none"
 
 
 def _log10(x):

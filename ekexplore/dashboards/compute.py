@@ -142,6 +142,25 @@ def _rasterise(prof, ox, oy, dx, dy, nx, ny):
     return hit
 
 
+def _centreline(prof, n=201):
+    """The horizontal cut through the centre, wall to wall, interpolated on the
+    mesh's own triangles (every point inside the mesh gets its value)."""
+    x, y = np.asarray(prof.x, float), np.asarray(prof.y, float)
+    yc = float(prof.centre[1])
+    c = prof.centreline(n=n)
+    xs = np.asarray(c["x"], float)
+    xa, xb = float(np.nanmin(xs)), float(np.nanmax(xs))
+    dx = (xb - xa) / (n - 1)
+    tri, lam = _raster(x, y, prof.triangles, xa, yc, dx, 1.0, n, 1)
+    ok = tri >= 0
+    nodes = np.asarray(prof.triangles)[np.where(ok, tri, 0)]
+    out = {"x": xa + dx * np.arange(n), "y": np.full(n, yc)}
+    for k in ("velocity_pressure", "velocity_electroosmotic", "potential"):
+        v = np.asarray(getattr(prof, k), float)
+        out[k] = np.where(ok, np.sum(v[nodes] * lam, axis=1), np.nan)
+    return out
+
+
 IMAGE_FIELDS = ("potential", "velocity_electroosmotic", "velocity_pressure", "charge_density")
 
 
@@ -200,7 +219,7 @@ def field_images(prof, n=160):
         np.maximum.at(node_max, flat, np.abs(np.asarray(getattr(prof, k), float)))
         peaks[k] = np.where(np.isfinite(pk), np.maximum(pk, node_max), np.nan).reshape(ny, nx)
     normal = prof.wall_normal(n=50)
-    centre = prof.centreline()
+    centre = _centreline(prof)
     return dict(x0=x0, y0=y0, width=W, height=H, nx=nx, ny=ny,
                 **{k: imgs[k].reshape(ny, nx) for k in IMAGE_FIELDS},
                 magnitude={k: peaks[k] for k in IMAGE_FIELDS},
@@ -404,6 +423,11 @@ def verdict(r, thin, state, ref=None, acc=None):
     return "; ".join(parts)
 
 
+def _no_noise(x, floor=1e-12):
+    """Round-off of a quantity that is exactly zero in theory (e.g. Du at ζ = 0)."""
+    return 0.0 if abs(x) < floor else x
+
+
 def derived(r, state, problems=()):
     """(name, value with unit, one-line meaning) for each derived quantity.
     Impossible values (a share or an efficiency above 100 %) are not shown as
@@ -433,7 +457,7 @@ def derived(r, state, problems=()):
         ("electroviscous ratio", checked(num(scalar(r.electroviscous_ratio), 6), q2_bad,
                                          "below 1"),
          "apparent over true viscosity: the streaming potential slows pressure flow"),
-        ("Dukhin number Du", num(scalar(r.dukhin)),
+        ("Dukhin number Du", num(_no_noise(scalar(r.dukhin))),
          "surface over bulk conduction"),
         ("coupling degree q²", checked(num(q2), q2_bad, "outside 0–1"),
          "0: flow and current independent; 1: perfectly coupled"),
@@ -636,6 +660,7 @@ class Device:
     best_load: float              # load of maximum efficiency [ohm]
     problems: list = field(default_factory=list)   # impossible values, in words
     warnings: list = field(default_factory=list)   # ratings exceeded, in words
+    accuracy: Accuracy | None = None
 
 
 def device(state, n_load=121):
@@ -680,7 +705,13 @@ def device(state, n_load=121):
         warnings.append(f"a closed outlet would build {U.pressure(abs(stall))}, above the "
                         f"maximum pressure {U.pressure(state.max_pressure)}: keep the outlet "
                         "open or lower the voltage")
+    if state.is_section or text(r.model) == "pb":
+        ref = None
+    else:
+        ref = state.solve("pb")
+    acc = accuracy(r, ref, state)
     return Device(result=r, channels=N, conductances=c, flow=Q, current=I, power=V * I,
+                  accuracy=acc,
                   stall_pressure=stall, free_flow=free, streaming_voltage=-cc * dp / g,
                   streaming_current=cc * dp, max_efficiency=scalar(r.max_efficiency),
                   load=R, load_power=Pl, load_efficiency=eff, best_load=best,

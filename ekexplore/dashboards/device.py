@@ -46,6 +46,8 @@ def readout_html(d, state):
     if state.shape == "Slit":
         what += f" and {U.length(state.width)} wide"
     warn = ""
+    if d.accuracy is not None and d.accuracy.out_of_range:
+        warn += f"<div class='ekx-warn'>⚠ {html.escape(d.accuracy.out_of_range)}</div>"
     if d.problems:
         warn += ("<div class='ekx-warn'>⚠ Impossible result with the "
                  f"{html.escape(compute.text(d.result.model))} model here: "
@@ -130,8 +132,8 @@ class DeviceView(ViewUpdates):
         self.plots = w.HBox([bokeh_widget(fp), bokeh_widget(column(fg, fe))],
                             layout=w.Layout(flex_flow="row wrap"))
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
-                        "<span class='ekx-sub'>&nbsp; flow, current and power of one channel; "
-                        "pump and generator curves</span>")
+                        "<span class='ekx-sub'>&nbsp; flow, current and power of identical channels "
+                        "in parallel; pump and generator curves</span>")
         right = w.VBox([self.status.widget, self.caution, self.readout, self.plots,
                         self.export.widget],
                        layout=w.Layout(flex="1 1 auto", max_width="920px", min_width="0",

@@ -19,6 +19,11 @@ __all__ = ["ExplorerView"]
 TITLE = "ekexplore — coupling matrix explorer"
 
 
+def ratio_text(x):
+    """A ratio for a sentence: 2.5, 38, 1000 (never an exponent)."""
+    return f"{x:.0f}" if x >= 100 else num(x, 2)
+
+
 def symbols(text):
     """Escape ``text`` for HTML and render λ_D as a symbol with a subscript."""
     return html.escape(text).replace("λ_D", "λ<sub>D</sub>")
@@ -183,7 +188,7 @@ class ExplorerView(ViewUpdates):
         figs = [f_phi, f_c, f_rho, f_u, f_j]
         # the Debye-length marker of all five figures is one data source per view,
         # so an update moves it with a single message
-        marker = ColumnDataSource(dict(x=[1.0 if log else 0.0], text=["λ_D"]))
+        marker = ColumnDataSource(dict(x=[1.0 if log else 0.0], text=["λD"]))
         marker.name = f"ekx-debye-marker-{view}"
         self.debye_markers[view] = marker
         for f in figs:
@@ -193,10 +198,11 @@ class ExplorerView(ViewUpdates):
                                   text_font_size="10px", text_color="#444444"))
         for f in (f_c, f_u, f_j):
             f.legend.label_text_font_size = "10px"
-            f.legend.background_fill_alpha = 0.6
-            f.legend.location = "top_right" if log else "top_left"
             f.legend.padding = 2
-            f.legend.spacing = 0
+            f.legend.spacing = 6
+            f.legend.orientation = "horizontal"
+            f.legend.border_line_alpha = 0
+            f.add_layout(f.legend[0], "below")     # outside the data
         self.figures.extend(figs)
         self._figure_views.extend([view] * len(figs))
         return figs
@@ -245,7 +251,7 @@ class ExplorerView(ViewUpdates):
         self.derived.value = derived_html(ex.derived)
         self.code.value = st.code()
         self.matrix_model = ex.model
-        self.status.busy("matrix up to date; computing the profiles"
+        self.status.busy("matrix shown; computing the profiles"
                          + (" and 2D fields…" if st.is_section else "…"))
 
     def _show(self, ex, st):
@@ -265,9 +271,9 @@ class ExplorerView(ViewUpdates):
         lam = c.debye_length
         loc = (c.wall + lam) * k if c.from_wall else (c.wall - lam) * k
         inside = 0 <= loc <= float(np.max(x))
-        self.debye_markers["across"].data = (dict(x=[loc], text=["λ_D"]) if inside
+        self.debye_markers["across"].data = (dict(x=[loc], text=["λD"]) if inside
                                              else dict(x=[], text=[]))
-        self.debye_markers["wall"].data = dict(x=[lam * k], text=["λ_D"])
+        self.debye_markers["wall"].data = dict(x=[lam * k], text=["λD"])
         S = self.sources
         S["potential"].data = dict(x=x, w=wd, y=c.potential * 1e3)
         S["concentrations"].data = dict(
@@ -289,8 +295,9 @@ class ExplorerView(ViewUpdates):
         for fig in (self.figures_of("across")[4], self.figures_of("wall")[4]):
             fig.yaxis.axis_label = f"current density [{pre}A/m²]"
         S["current"].data = dict(x=x, w=wd, migration=jm * f, convective=jc * f)
-        where = ("λ_D = " + eng(lam, "m") + " from the wall (dotted line)" if inside else
-                 "λ_D = " + eng(lam, "m") + " is larger than the distance to the centre")
+        where = ("λ<sub>D</sub> = " + eng(lam, "m") + " from the wall (dotted line)" if inside
+                 else "λ<sub>D</sub> = " + eng(lam, "m") + " is larger than the distance to the "
+                 "centre")
         side = ("Across view: wall at the left edge" if c.from_wall else
                 "Across view: wall at the right edge")
         self.note.value = (
@@ -305,7 +312,7 @@ class ExplorerView(ViewUpdates):
               ("velocity_electroosmotic", "electroosmotic velocity", "m/s", None),
               ("velocity_pressure", "pressure-driven velocity", "m/s", None))
     #: plot-area size of the field images [px]: longest side, shortest allowed side
-    FRAME, FRAME_MIN = 230, 36
+    FRAME, FRAME_MIN = 250, 60
     #: decades shown by the logarithmic colour scale
     LOG_DECADES = 4
 
@@ -353,7 +360,7 @@ class ExplorerView(ViewUpdates):
         self.field_scale.observe(self._rescale_fields, "value")
         self.centre_source = ColumnDataSource(dict(x=[], pressure=[], eo=[]))
         self.centre_source.name = "ekx-field-centreline"
-        fc = new_figure(600, 200, "cut along the horizontal centreline", "x [µm]",
+        fc = new_figure(470, 220, "cut along the horizontal centreline", "x [µm]",
                         "velocity [m/s]")
         fc.line("x", "pressure", source=self.centre_source, color=PALETTE[0], line_width=2,
                 legend_label="pressure-driven")
@@ -413,8 +420,12 @@ class ExplorerView(ViewUpdates):
                 m = self.field_mappers[key]
                 if finite.size:
                     lo, hi = float(np.min(finite) * fac), float(np.max(finite) * fac)
-                    if lo == hi:
-                        lo, hi = lo - 1e-12 - abs(lo) * 1e-6, hi + 1e-12 + abs(hi) * 1e-6
+                    if hi - lo <= 1e-3 * max(abs(lo), abs(hi)):
+                        # a uniform field (e.g. the slip model's plug flow): one colour,
+                        # not round-off speckle; the scale runs from zero
+                        lo, hi = min(lo, 0.0), max(hi, 0.0)
+                        if lo == hi:
+                            lo, hi = -1.0, 1.0
                     m.low, m.high = lo, hi
                 shown = a * fac
                 self.field_bars[key].title = f"[{pre}{base}]" if factor is None else f"[{base}]"
@@ -435,8 +446,8 @@ class ExplorerView(ViewUpdates):
         f, pre = prefix_scale(max(np.nanmax(np.abs(up)), np.nanmax(np.abs(ue))))
         self.centre_figure.yaxis.axis_label = f"velocity [{pre}m/s]"
         self.centre_source.data = dict(x=c["x"] * k, pressure=up * f, eo=ue * f)
-        flat = (f" The section is {num(max(W, H) / min(W, H), 2)}:1, so its short side is drawn "
-                f"{num(stretch, 2)}× longer than to scale." if stretch > 1.0 else
+        flat = (f" The section is {ratio_text(max(W, H) / min(W, H))}:1, so its short side is "
+                f"drawn {ratio_text(stretch)}× longer than to scale." if stretch > 1.0 else
                 " Both axes to the same scale.")
         self.field_note.value = (
             "<div class='ekx-small'>Fields over the cross-section, "
@@ -452,7 +463,8 @@ class ExplorerView(ViewUpdates):
             if layout.document is not None:
                 layout.document.remove_root(layout)
             self.field_widget.close()
-        self._field_layout = column(row(*self.field_figures), self.centre_figure)
+        f0, f1, f2 = self.field_figures
+        self._field_layout = column(row(f0, f1), row(f2, self.centre_figure))
         self.field_widget = bokeh_widget(self._field_layout)
         self.field_box.children = [self.field_note, w.HBox([self.field_scale]),
                                    self.field_widget]

@@ -97,7 +97,7 @@ class RegimesView(ViewUpdates):
             sp = Span(location=lev, dimension="height", line_color="white", line_dash="dashed",
                       line_width=1.5)
             fb.add_layout(sp)
-            fb.add_layout(Label(x=lev, y=7.4, text=f" κa={lev:g}", text_color="white",
+            fb.add_layout(Label(x=lev, y=7.4, text=f" κ·a = {lev:g}", text_color="white",
                                 text_font_size="11px"))
         for key, f in self.figures.items():
             f.scatter("x", "y", source=S["point_" + key], marker="circle_cross", size=16,
@@ -240,7 +240,7 @@ class RegimesView(ViewUpdates):
         for lev, (x, y) in a["contours"].items():
             xs.append(x)
             ys.append(y * UM)
-            lab.append(f"κa={lev:g}")
+            lab.append(f"κ·a = {lev:g}")
         S["contours"].data = dict(xs=xs, ys=ys, label=lab)
         # label each contour where it leaves the plot on the low-concentration side
         tx, ty, tt = [], [], []
@@ -250,7 +250,7 @@ class RegimesView(ViewUpdates):
                 k = np.flatnonzero(inside)[0]
                 tx.append(x[k])
                 ty.append(y[k] * UM)
-                tt.append(f"κa={lev:g}")
+                tt.append(f"κ·a = {lev:g}")
         S["contour_labels"].data = dict(x=tx, y=ty, text=tt)
 
     def _recolour(self):
@@ -298,6 +298,11 @@ class RegimesView(ViewUpdates):
             f", Debye length λ<sub>D</sub> {html.escape(U.length(compute.scalar(r.debye_length)))}"
             ".<br>"
             f"<span style='color:#1b2a38'>{html.escape(ex.verdict)}</span><br>"
+            + (f"<div class='ekx-warn'>⚠ {html.escape(ex.accuracy.out_of_range)}</div>"
+               if ex.accuracy is not None and ex.accuracy.out_of_range else "")
+            + (f"<div class='ekx-warn'>⚠ Impossible result of the {html.escape(ex.model)} "
+               f"model here: {html.escape('; '.join(ex.problems))}.</div>"
+               if ex.problems else "") +
             f"Maps: one batched solve per model (pb reference, thin, dh) on "
             f"{a['n_valid']} of {a['n_cells']} cells (left) and {b['n_valid']} of "
             f"{b['n_cells']} (right); "

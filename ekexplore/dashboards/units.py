@@ -5,7 +5,7 @@ import math
 
 import numpy as np
 
-_PREFIXES = [(1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "µ"), (1e-3, "m"), (1.0, ""),
+_PREFIXES = [(1e-18, "a"), (1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "µ"), (1e-3, "m"), (1.0, ""),
              (1e3, "k"), (1e6, "M"), (1e9, "G")]
 
 
@@ -37,8 +37,9 @@ def num(value, digits=3):
     >>> num(0.123456), num(12345.0), num(1.5e-7)
     ('0.123', '1.23e+04', '1.5e-07')
     """
-    v = float(value)
-    return f"{v:.{digits}g}"
+    v = float(value) + 0.0          # no "-0" on screen
+    text = f"{v:.{digits}g}"
+    return "0" if text == "-0" else text
 
 
 def length_unit(scale_m):

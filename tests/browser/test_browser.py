@@ -89,6 +89,10 @@ class Page:
         return self.page.locator(".widget-slider", has=self.page.locator(
             ".widget-label", has_text=label))
 
+    def entry(self, label):
+        """The typing box next to a slider (checked in the kernel)."""
+        return self.slider(label).locator("xpath=following-sibling::*[1]//input")
+
     def close(self):
         self.context.close()
 
@@ -135,7 +139,7 @@ def test_explorer_slider_changes_matrix_and_plot(server, browser, artifacts, cap
                                         || y.some((v, i) => v !== old[i]); } }
                         return false; }""", arg=before_phi)
             assert p.source("ekx-potential", "y") != before_phi
-        readout = p.slider("salt conc.").locator(".widget-readout").inner_text()
+        readout = p.entry("salt conc.").input_value()
         assert float(readout) > 1.0           # six steps of 10**0.05 up from 1 mM
         line = (f"slider key press -> matrix readout updated: median "
                 f"{statistics.median(times) * 1e3:.0f} ms, min {min(times) * 1e3:.0f} ms, "
@@ -157,8 +161,24 @@ def test_explorer_slider_changes_matrix_and_plot(server, browser, artifacts, cap
         stern.fill("-3")
         stern.press("Enter")
         p.page.wait_for_selector(".ekx-error")
-        assert "stern_conductance" in p.text(".ekx-status-box")
+        # the message names the control as labelled, in its unit, and the field
+        # goes back to the last good value (no silent clamping)
+        assert "Stern cond. -3 nS: enter a value from 0 to 1000 nS" in p.text(".ekx-status-box")
+        assert "up to date" not in p.text(".ekx-status-box")
+        p.page.wait_for_function(
+            "() => [...document.querySelectorAll('.widget-text')].some(b => "
+            "b.innerText.includes('Stern') && b.querySelector('input').value === '0')")
         p.page.screenshot(path=str(artifacts / "explorer-bad-input.png"))
+        _assert_clean(p)
+        # a typed concentration of 0 mM is refused with the screen's words
+        box = p.entry("salt conc.")
+        good = box.input_value()
+        box.fill("0")
+        box.press("Enter")
+        p.page.wait_for_function(
+            "() => document.querySelector('.ekx-status').textContent.includes('salt conc. 0 mM')")
+        p.page.wait_for_timeout(500)
+        assert box.input_value() == good
         _assert_clean(p)
     finally:
         p.close()
@@ -172,14 +192,14 @@ def test_two_pages_stay_independent(server, browser):
         b_matrix = b.text(".ekx-matrix")
         a_matrix = a.text(".ekx-matrix")
         assert a_matrix == b_matrix            # same defaults
-        readout = a.slider("salt conc.").locator(".widget-readout")
+        readout = a.entry("salt conc.")
         readout.fill("100")
         readout.press("Enter")
         a.page.wait_for_function(
             "old => document.querySelector('.ekx-matrix').innerText !== old", arg=a_matrix)
         b.page.wait_for_timeout(1500)          # give any cross-talk time to show
         assert b.text(".ekx-matrix") == b_matrix
-        assert b.slider("salt conc.").locator(".widget-readout").inner_text().strip() == "1.00"
+        assert float(b.entry("salt conc.").input_value()) == 1.0
         assert a.text(".ekx-matrix") != b.text(".ekx-matrix")
         _assert_clean(a)
         _assert_clean(b)
