@@ -54,8 +54,8 @@ class Conditions:
     diffusivities: np.ndarray      # (n, *shape) [m^2/s]
     ion_names: tuple
     kappa: np.ndarray              # inverse Debye length [1/m]
-    wall_condition: str            # "potential" | "charge"
-    wall_value: np.ndarray         # [V] or [C/m^2]
+    wall_condition: str            # "potential" | "charge" | "regulated"
+    wall_value: np.ndarray         # [V] or [C/m^2], or (P, *shape) surface rows
     stern_conductance: np.ndarray  # [S]
 
     @property
@@ -94,10 +94,11 @@ class Conditions:
         def fk(a):
             return np.broadcast_to(a, a.shape[:1] + shape).reshape(a.shape[0], B).astype(float)
 
+        value = fk(self.wall_value) if self.wall.rows else f1(self.wall_value)
         b = Batch(z=np.asarray(self.valences, dtype=float), c=fk(self.concentrations),
                   D=fk(self.diffusivities), T=f1(self.temperature),
                   eps=f1(self.permittivity), eta=f1(self.viscosity), kappa=f1(self.kappa),
-                  VT=f1(self.thermal_voltage), value=f1(self.wall_value), wall=self.wall,
+                  VT=f1(self.thermal_voltage), value=value, wall=self.wall,
                   length=None, ion_names=tuple(self.ion_names))
         return b if half_size is None else b.with_length(f1(half_size))
 
@@ -115,8 +116,9 @@ class Batch:
     T, eps, eta, kappa, VT : ndarray (B,)
         Temperature [K], permittivity [F/m], viscosity [Pa s], inverse Debye
         length [1/m], thermal voltage kT/e [V].
-    value : ndarray (B,)
-        The imposed wall value in SI ([V] or [C/m²]).
+    value : ndarray (B,) or (P, B)
+        The imposed wall value in SI ([V] or [C/m²]), or the rows of a
+        charge-regulating surface (``wall.rows``).
     wall : WallCondition
         The wall condition.
     length : ndarray (B,) or None

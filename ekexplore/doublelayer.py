@@ -203,6 +203,11 @@ def donnan_potential(z, w, target):
 def _initial_guess(grid, K, z, w, wall, value):
     """A Gouy-Chapman-like start, shifted to the Donnan level for overlap."""
     zc = np.max(np.abs(z))
+    if wall.nonlinear and not wall.dirichlet:
+        # a charge that follows the wall potential: start from its isolated wall
+        phi_w = wall.isolated_potential(z, w, K, value)
+        phi = gouy_chapman_potential(zc, phi_w[:, None], np.exp(-(K[:, None]) * grid.x))
+        return phi
     if wall.dirichlet:
         phi_w = value
     else:
@@ -236,9 +241,10 @@ def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
         The wall condition: Dirichlet, or a scaled charge s(phi_w) whose value
         and slope enter the residual and the Jacobian at every Newton step
         (a fixed charge when ``wall.nonlinear`` is false).
-    value : ndarray (B,)
+    value : ndarray (B,) or (P, B)
         Scaled wall potential, or the scaled value of the charge condition
-        (sigma R e / (eps k T) for a fixed charge).
+        (sigma R e / (eps k T) for a fixed charge; rows of parameters for a
+        charge-regulating wall, indexed on the last axis).
     phi0 : ndarray (B, n), optional
         Initial guess.
 
@@ -281,7 +287,7 @@ def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
         e = 0.5 * np.sum(c[idx] * dphi**2, axis=1) + np.sum(K2V[idx] * _g(z, w[:, idx], ph),
                                                               axis=1)
         if nonlinear:   # - (m+1) int_0^phi_w s dphi
-            return e - (grid.m + 1) * wall.charge_energy(value[idx], ph[:, 0])
+            return e - (grid.m + 1) * wall.charge_energy(value[..., idx], ph[:, 0])
         return e - np.sum(bvec[idx] * ph, axis=1)
 
     lim = 2.0 * PB_PHI_CLIP / np.min(np.abs(z))
@@ -310,7 +316,7 @@ def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
         fp *= K2Va
         d = da - fp
         if nonlinear:   # the wall charge at the current wall potential, and its slope
-            va = value[active]
+            va = value[..., active]
             F[:, 0] += (grid.m + 1) * wall.charge(va, ph[:, 0])
             d[:, 0] -= (grid.m + 1) * wall.charge_slope(va, ph[:, 0])
         if dirichlet:

@@ -124,14 +124,19 @@ def _assemble(b, m, means, phi_w, wall_charge, err, model):
 
 def _wall_charge(b, phi_w):
     """Imposed charge, or that of the isolated-wall layer at potential phi_w (Grahame)."""
+    if b.wall.nonlinear:
+        return b.wall.charge_density(b.scaled_value, phi_w)
     if not b.wall.dirichlet:
         return b.value
     return b.eps * b.VT * b.kappa * isolated_wall_charge(b.z[:, None], b.weights, phi_w)
 
 
 def _thin(b, m):
-    phi_w = b.scaled_value if b.wall.dirichlet else isolated_wall_potential(
-        b.z, b.weights, b.K, b.scaled_value)
+    if b.wall.nonlinear:   # the regulated isolated wall
+        phi_w = b.wall.isolated_potential(b.z, b.weights, b.K, b.scaled_value)
+    else:
+        phi_w = b.scaled_value if b.wall.dirichlet else isolated_wall_potential(
+            b.z, b.weights, b.K, b.scaled_value)
     per_area = (m + 1) / b.length / b.kappa                       # (P/A) / kappa
     means = thin_means(b, phi_w, per_area, shear=1.0)
     return _assemble(b, m, means, phi_w, _wall_charge(b, phi_w), np.zeros(b.B), "thin")
@@ -139,7 +144,10 @@ def _thin(b, m):
 
 def _dh(b, m):
     K = b.K
-    phi_w = b.scaled_value if b.wall.dirichlet else dh_wall_potential(m, K, b.scaled_value)
+    if b.wall.nonlinear:   # sites balancing the linear layer: s = phi_w / dh_wall_potential(1)
+        phi_w = b.wall.linear_potential(1.0 / dh_wall_potential(m, K, 1.0), b.scaled_value)
+    else:
+        phi_w = b.scaled_value if b.wall.dirichlet else dh_wall_potential(m, K, b.scaled_value)
     G1 = _mean_factor(m, K)
     H = _square_factor(m, K)
     mean_c, conv = dh_means(b.z, phi_w * G1, phi_w**2 * H, phi_w**2 * (H - G1))
@@ -148,6 +156,8 @@ def _dh(b, m):
              "mean_c": mean_c, "conv_excess": conv}
     sigma = b.value if not b.wall.dirichlet else (
         b.eps * b.VT * phi_w * K**2 * G1 / (b.length * (m + 1)))
+    if b.wall.nonlinear:
+        sigma = _wall_charge(b, phi_w)
     return _assemble(b, m, means, phi_w, sigma, np.zeros(b.B), "dh")
 
 
@@ -176,6 +186,8 @@ def _pb_wall_estimate(b, m):
     """Scaled wall potential, or for a charge wall an estimate of it."""
     if b.wall.dirichlet:
         return b.scaled_value
+    if b.wall.nonlinear:
+        return b.wall.isolated_potential(b.z, b.weights, b.K, b.scaled_value)
     return wall_potential_estimate(b.z, b.weights, b.K, b.scaled_value, m + 1)
 
 
@@ -239,6 +251,8 @@ def _pb_group(b, m, x0, n):
     phi_w = _rich(phi_c[:, 0], phi_f[:, 0])
     sigma = b.value if not b.wall.dirichlet else neutrality_charge(
         b, means["mean_f"], b.length / (m + 1))
+    if b.wall.nonlinear:   # the sites' charge at the extrapolated zeta
+        sigma = _wall_charge(b, phi_w)
     # error estimate: Richardson difference of the two grids, the largest over
     # the coefficients (it bounds the error of the fine grid; the extrapolated
     # value is better still)

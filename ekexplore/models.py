@@ -235,7 +235,9 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
         zb = np.asarray(valences, dtype=float).reshape((-1,) + (1,) * (np.ndim(weights) - 1))
         skew = np.abs(np.sum(zb**3 * np.asarray(weights), axis=0))
         ratio = ratio + skew * np.abs(np.asarray(phi_wall)) / 2.0
-    dh = _SAFETY_DH * ratio * (_SAFETY_DH_CHARGE if condition == "charge" else 1.0)
+    # a regulated wall (charge that follows the potential) lies between the
+    # fixed-potential and fixed-charge cases: it takes the larger factor
+    dh = _SAFETY_DH * ratio * (_SAFETY_DH_CHARGE if condition != "potential" else 1.0)
     thin, dh = np.broadcast_arrays(np.minimum(thin, 1e6), np.minimum(dh, 1e6))
     return {"thin": thin, "dh": dh}
 
@@ -265,6 +267,8 @@ def auto_choice(b, geometry, geometry_factor, tol):
     """
     if b.wall.dirichlet:
         phi_est = b.scaled_value
+    elif b.wall.nonlinear:   # a charge-regulating wall: its isolated wall
+        phi_est = b.wall.isolated_potential(b.z, b.weights, b.K, b.scaled_value)
     else:
         phi_est = wall_potential_estimate(b.z, b.weights, b.K, b.scaled_value, geometry_factor)
     return choose_models(b.K, phi_est, b.z, geometry, tol, condition=b.wall.name,

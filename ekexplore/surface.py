@@ -47,9 +47,9 @@ from scipy import constants, special
 
 from ._validate import as_float_array, check_range
 from .medium import check_temperature
-from .wall import ZETA_MAX, grahame_charge
+from .wall import WALL_CONDITIONS, ZETA_MAX, WallCondition, grahame_charge
 
-__all__ = ["Site", "Surface", "IsolatedWall", "PK_RANGE", "PH_RANGE", "SITE_DENSITY_MAX",
+__all__ = ["Site", "Surface", "IsolatedWall", "RegulatedCharge", "PK_RANGE", "PH_RANGE", "SITE_DENSITY_MAX",
            "STERN_CAPACITANCE_MAX"]
 
 LN10 = float(np.log(10.0))
@@ -66,6 +66,10 @@ SITE_DENSITY_MAX = 1e21
 #: Largest Stern capacitance accepted [F/m²]. Real values are 0.1-5 F/m²; the
 #: wide bound lets the fixed-potential limit be explored.
 STERN_CAPACITANCE_MAX = 1e3
+
+
+#: pK values a site may have (rows reserved per site when packed).
+_MAX_PK = 4
 
 
 def _thermal_voltage(T):
@@ -424,6 +428,32 @@ class Surface:
         pzc = 0.5 * (lo + hi)
         return np.where((f_lo > 0) & (f_hi < 0), pzc, np.nan)
 
+    def _pack(self, pH):
+        """The surface and the pH as rows of one array (P, *shape) [SI]: the
+        value of a regulated :class:`ekexplore.Wall` (see :class:`RegulatedCharge`).
+
+        Rows: pH, C [F/m²], then per site: charge of the most protonated
+        state, number of pK values, 4 pK values (unused ones 0), density [1/m²].
+        """
+        pH = check_range("pH", pH, *PH_RANGE)
+        shape = np.broadcast_shapes(pH.shape, self.shape)
+        rows = [pH, self._C]
+        for s in self._sites:
+            pks = list(s.pK) + [0.0] * (_MAX_PK - len(s.pK))
+            rows += [float(s.charge), float(len(s.pK))] + pks + [s.density]
+        return np.stack([np.broadcast_to(np.asarray(r, dtype=float), shape) for r in rows])
+
+    @staticmethod
+    def _unpack(rows, first):
+        """(Surface with unit capacitance, pH) from packed rows; site rows start at ``first``."""
+        sites = []
+        for j in range(first, rows.shape[0], 3 + _MAX_PK):
+            q = int(np.round(rows[j].flat[0])) if rows[j].size else 0
+            npk = int(np.round(rows[j + 1].flat[0])) if rows[j].size else 1
+            sites.append(Site(tuple(rows[j + 2 + i] for i in range(npk)),
+                              rows[j + 2 + _MAX_PK], charge=q))
+        return Surface(sites, 1.0), rows[0]
+
     def _flat(self, shape):
         """A copy whose parameters are broadcast to ``shape`` and raveled: one
         value per point of a flat batch (for the batched solvers)."""
@@ -705,3 +735,106 @@ class Surface:
     def __repr__(self):
         C = self._C if self._C.ndim else float(self._C)
         return f"Surface({list(self._sites)!r}, stern_capacitance={C!r}, name={self._name!r})"
+
+
+# --------------------------------------------------------------------------
+# the regulated wall as a wall condition of every model and shape
+# --------------------------------------------------------------------------
+class RegulatedCharge(WallCondition):
+    r"""A wall whose charge follows the chemistry: a nonlinear charge condition.
+
+    The wall charge is that of the sites behind the Stern layer,
+    :math:`\sigma(\zeta)` of :meth:`Surface.wall_charge`, at the potential
+    ζ where the diffuse layer starts; the solvers impose
+    :math:`\varepsilon\,\partial\psi/\partial n = \sigma(\psi_{wall})` and
+    carry its slope in Newton's Jacobian (``nonlinear = True``).
+
+    The value is the surface and the pH packed as rows (``Surface._pack``);
+    in scaled units at reference length L the rows are pH, C kT/e, L/(eps kT/e),
+    then the site rows, and the scaled charge is s = sigma L e/(eps kT).
+    """
+
+    name = "regulated"
+    parameter = "surface"
+    unit = ""
+    dirichlet = False
+    nonlinear = True
+    #: the value has rows (P, ...) ahead of the point axes
+    rows = True
+
+    def scale(self, value, thermal_voltage, permittivity, length):
+        value = np.asarray(value, dtype=float)
+        return np.concatenate([value[:1], (value[1] * thermal_voltage)[None],
+                               (length / (permittivity * thermal_voltage))[None], value[2:]])
+
+    @staticmethod
+    def _split(scaled_value):
+        surf, pH = Surface._unpack(scaled_value, 3)
+        return surf, pH, scaled_value[1], scaled_value[2]
+
+    def _terms(self, scaled_value, phi_w):
+        # solvers ask for the charge and then its slope at the same point: keep
+        # the last evaluation (the inner solve for the charged plane is the cost)
+        key = getattr(self, "_last", None)
+        phi_w = np.asarray(phi_w, dtype=float)
+        if (key is not None and key[0] is scaled_value and key[1].shape == phi_w.shape
+                and np.array_equal(key[1], phi_w)):
+            return key[2]
+        surf, pH, c_s, to_scaled = self._split(scaled_value)
+        sig, dsig, free, phi0, frac = surf._diffuse_terms(phi_w, pH, c_s)
+        out = (sig * to_scaled, dsig * to_scaled, free * to_scaled, phi0, frac)
+        self._last = (scaled_value, phi_w.copy(), out)
+        return out
+
+    def charge(self, scaled_value, phi_w):
+        return self._terms(scaled_value, phi_w)[0]
+
+    def charge_slope(self, scaled_value, phi_w):
+        return self._terms(scaled_value, phi_w)[1]
+
+    def charge_energy(self, scaled_value, phi_w):
+        """int s dphi_w up to a constant of the point (enough for the descent)."""
+        return self._terms(scaled_value, phi_w)[2]
+
+    def charge_density(self, scaled_value, phi_w):
+        """The wall charge [C/m²] at scaled potential ``phi_w``."""
+        return self._terms(scaled_value, phi_w)[0] / scaled_value[2]
+
+    def surface_state(self, scaled_value, phi_w):
+        """(potential of the charged plane, scaled, and the charged fraction) at ``phi_w``."""
+        return self._terms(scaled_value, phi_w)[3:]
+
+    def _balance(self, scaled_value, diffuse, lim):
+        """phi_w where the sites carry the charge ``diffuse(phi_w)`` (scaled) of
+        the double layer: bisection on the decreasing
+        s_sites(phi_w + q/c_s) - q, q = diffuse(phi_w)."""
+        surf, pH, c_s, to_scaled = self._split(scaled_value)
+        cs = c_s * to_scaled
+        lo = np.broadcast_to(-lim, np.shape(pH)).astype(float)
+        hi = -lo
+
+        def f(phi):
+            q = diffuse(phi)
+            return surf._site_terms(phi + q / cs, pH)[0] * to_scaled - q
+
+        for _ in range(64):
+            mid = 0.5 * (lo + hi)
+            up = f(mid) > 0
+            lo = np.where(up, mid, lo)
+            hi = np.where(up, hi, mid)
+        return 0.5 * (lo + hi)
+
+    def isolated_potential(self, z, weights, K, scaled_value, lim=40.0):
+        """Scaled zeta of the regulated isolated wall (thin model), with the
+        scaled Grahame charge of :func:`ekexplore.wall.isolated_wall_charge`."""
+        from .wall import isolated_wall_charge
+        zc = np.asarray(z, dtype=float)[:, None]
+        return self._balance(scaled_value, lambda p: K * isolated_wall_charge(zc, weights, p),
+                             lim / np.max(np.abs(z)))
+
+    def linear_potential(self, slope, scaled_value, lim=40.0):
+        """Scaled zeta where the sites balance a linear layer s = slope phi_w (dh model)."""
+        return self._balance(scaled_value, lambda p: slope * p, lim)
+
+
+WALL_CONDITIONS[RegulatedCharge.name] = RegulatedCharge()

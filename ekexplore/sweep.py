@@ -40,6 +40,8 @@ _RESULT_KEYS = ("hydraulic", "electroosmotic", "streaming", "conductive",
                 "electroviscous_ratio", "dukhin", "coupling_degree", "max_efficiency",
                 "counterion_share", "kappa_size", "debye_length", "wall_potential",
                 "wall_charge", "bulk_conductivity", "error_estimate", "model")
+#: Results added for walls whose charge follows the chemistry.
+_SURFACE_KEYS = ("charged_fraction", "surface_potential")
 _CONDUCTANCE_KEYS = ("flow_per_pressure", "flow_per_volt", "current_per_pressure",
                      "conductance")
 #: First characters of the metadata line of a sweep file.
@@ -120,12 +122,14 @@ def design_table(grid=None, table=None, **fixed):
     return cols
 
 
-def _solve_rows(shape_name, salt, model, tol, length, cols):
+def _solve_rows(shape_name, salt, model, tol, length, cols, surface=None):
     """Solve designs (columns of equal length) in one vector call, or one
     solve per design for 2D sections; raises on the first invalid design."""
     cls = SHAPES[shape_name]
     shape_args = {p: cols[p] for p in cls.parameters if p in cols}
     w_kw = {k: cols[k] for k in _WALL_KEYS if k in cols}
+    if surface is not None:
+        w_kw["surface"] = surface
     n = len(cols["concentration"])
     if cls.kind == "section":  # one 2D solve per design
         results = [solve(cls(**{k: v[i] for k, v in shape_args.items()}),
@@ -134,8 +138,9 @@ def _solve_rows(shape_name, salt, model, tol, length, cols):
                                               if k in cols}),
                          Wall(**{k: v[i] for k, v in w_kw.items()}), model=model, tol=tol)
                    for i in range(n)]
+        rkeys = _RESULT_KEYS + (_SURFACE_KEYS if surface is not None else ())
         out = {k: np.array([np.asarray(getattr(r, k)).item() for r in results])
-               for k in _RESULT_KEYS}
+               for k in rkeys}
         if length is not None:
             for k in _CONDUCTANCE_KEYS:
                 out[k] = np.array([float(r.conductances(length)[k]) for r in results])
@@ -144,7 +149,8 @@ def _solve_rows(shape_name, salt, model, tol, length, cols):
     e_kw = {k: cols[k] for k in ("temperature", "pH") if k in cols}
     electrolyte = Electrolyte.named(salt, cols["concentration"], **e_kw)
     r = solve(channel, electrolyte, Wall(**w_kw), model=model, tol=tol)
-    out = {k: np.broadcast_to(getattr(r, k), (n,)).copy() for k in _RESULT_KEYS}
+    rkeys = _RESULT_KEYS + (_SURFACE_KEYS if surface is not None else ())
+    out = {k: np.broadcast_to(getattr(r, k), (n,)).copy() for k in rkeys}
     if length is not None:
         cond = r.conductances(length)
         for k in _CONDUCTANCE_KEYS:
@@ -199,7 +205,8 @@ def _message(exc):
     return f"{type(exc).__name__}: {exc}"
 
 
-def _evaluate(shape_name, salt, model, tol, length, cols, time_limit=None, stop_first=False):
+def _evaluate(shape_name, salt, model, tol, length, cols, time_limit=None, stop_first=False,
+              surface=None):
     """Solve one chunk of designs, recording each failing design's message.
 
     A top-level function, so that executors can pickle it. The chunk is
@@ -212,7 +219,8 @@ def _evaluate(shape_name, salt, model, tol, length, cols, time_limit=None, stop_
     when ``stop_first``).
     """
     n = len(cols["concentration"])
-    keys = _RESULT_KEYS + (_CONDUCTANCE_KEYS if length is not None else ())
+    keys = _RESULT_KEYS + (_CONDUCTANCE_KEYS if length is not None else ()) + (
+        _SURFACE_KEYS if surface is not None else ())
     out = {k: np.full(n, np.nan) for k in keys}
     out["model"] = np.full(n, None, dtype=object)
     error = np.full(n, None, dtype=object)
@@ -231,7 +239,9 @@ def _evaluate(shape_name, salt, model, tol, length, cols, time_limit=None, stop_
         sub = {k: v[lo:hi] for k, v in cols.items()}
         budget = None if time_limit is None else time_limit * (hi - lo)
         try:
-            res = _limited(lambda: _solve_rows(shape_name, salt, model, tol, length, sub), budget)
+            extra = () if surface is None else (surface,)
+            res = _limited(lambda: _solve_rows(shape_name, salt, model, tol, length, sub,
+                                               *extra), budget)
         except _Timeout:
             if hi - lo == 1:
                 error[lo] = (f"TimeoutError: the design ran longer than time_limit = "
@@ -335,7 +345,7 @@ def read_sweep(path):
 
 def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.01,
           length=None, executor=None, chunk_size=4096, progress=None, on_error="record",
-          output=None, resume=False, time_limit=None, **fixed):
+          output=None, resume=False, time_limit=None, surface=None, **fixed):
     """Evaluate many designs and return one tidy table.
 
     Parameters
@@ -344,8 +354,8 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
         The designs, see :func:`design_table`. Names are the shape's
         parameters (e.g. ``gap``, ``diameter``, ``width``, ``depth``),
         ``concentration`` [mol/m³] (required), ``temperature`` [K], ``pH``, ``zeta``
-        [V] or ``charge_density`` [C/m²] (one is required) and
-        ``stern_conductance`` [S].
+        [V] or ``charge_density`` [C/m²] (one is required, unless ``surface``
+        is given) and ``stern_conductance`` [S].
     shape : str
         A name in :data:`ekexplore.SHAPES`.
     salt : str
@@ -385,6 +395,11 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
         the returned table holds all of them. Refused if the file was
         written for another design table or other settings. If the file
         does not exist, the sweep starts from scratch.
+    surface : Surface, optional
+        A wall whose charge follows the chemistry (:class:`ekexplore.Surface`)
+        for every design, at the electrolyte's pH (``pH`` a design parameter); the
+        results then hold the solved ``wall_potential`` (zeta) and
+        ``wall_charge``, and ``charged_fraction``.
     time_limit : float, optional
         Time limit per design [s], > 0. A design that overruns is stopped and
         recorded with a ``TimeoutError`` message (see Notes for how it is
@@ -455,7 +470,13 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
         raise ValueError(f"sweep: shape {shape!r} needs {listed} in grid, table or as a value")
     if "concentration" not in cols:
         raise ValueError("sweep: give 'concentration' [mol/m^3] in grid, table or as a value")
-    if not any(k in cols for k in ("zeta", "charge_density")):
+    if surface is not None:
+        if not hasattr(surface, "_pack"):
+            raise ValueError(f"surface must be an ekexplore.Surface, got {surface!r}")
+        if any(k in cols for k in ("zeta", "charge_density")):
+            raise ValueError("sweep: with a surface give neither 'zeta' nor 'charge_density' "
+                             "(the pH of the electrolyte, a design parameter, sets the charge)")
+    elif not any(k in cols for k in ("zeta", "charge_density")):
         raise ValueError("sweep: give 'zeta' [V] or 'charge_density' [C/m^2]")
     known = set(SHAPES[shape].parameters) | set(_ELECTROLYTE_KEYS) | set(_WALL_KEYS)
     unknown = sorted(set(cols) - known)
@@ -467,7 +488,8 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
                 v).dtype.kind == "O" else as_float_array(k, v)
     n = len(cols["concentration"])
     inputs = list(cols)
-    result_keys = list(_RESULT_KEYS) + (list(_CONDUCTANCE_KEYS) if length is not None else [])
+    result_keys = list(_RESULT_KEYS) + (list(_CONDUCTANCE_KEYS) if length is not None else []) \
+        + (list(_SURFACE_KEYS) if surface is not None else [])
     columns = ["design"] + inputs + result_keys + ["error"]
 
     # -- the file: start it, or pick up what it already holds ------------------------
@@ -477,6 +499,8 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
         path = Path(output)
         settings = {"shape": shape, "salt": salt, "model": model, "tol": tol,
                     "length": length, "inputs": inputs}
+        if surface is not None:
+            settings["surface"] = repr(surface)
         meta = {"version": _FILE_VERSION, **settings, "designs": n,
                 "fingerprint": _fingerprint(cols, settings)}
         if path.exists() and path.stat().st_size > 0:
@@ -527,10 +551,11 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
     try:
         if executor is None:
             pending = ((idx, _evaluate(*args, {k: v[idx] for k, v in cols.items()},
-                                       time_limit, stop_first)) for idx in chunks)
+                                       time_limit, stop_first, surface)) for idx in chunks)
         else:
             futures = {executor.submit(_evaluate, *args, {k: v[idx] for k, v in cols.items()},
-                                       time_limit, stop_first): idx for idx in chunks}
+                                       time_limit, stop_first, surface): idx
+                       for idx in chunks}
             pending = ((futures[f], f.result()) for f in _as_completed(list(futures)))
         if stop_first and previous is not None and previous["error"].notna().any():
             failure = previous[previous["error"].notna()].sort_values("design").iloc[0]
@@ -578,7 +603,8 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
                             "streaming": "A/(Pa m)", "conductive": "S/m",
                             "streaming_potential_coefficient": "V/Pa", "debye_length": "m",
                             "wall_potential": "V", "wall_charge": "C/m^2",
-                            "bulk_conductivity": "S/m"}
+                            "bulk_conductivity": "S/m", "surface_potential": "V",
+                            "charged_fraction": "-"}
     if failed:
         shown = ", ".join(str(i) for i in failed[:10]) + (", ..." if len(failed) > 10 else "")
         first = frame["error"][failed[0]]

@@ -74,10 +74,14 @@ def _warn_model_ranges(cond, half_size, models, estimates):
 
 
 def _conditions(channel, electrolyte, wall):
-    wall_name = "zeta" if wall.condition == "potential" else "charge_density"
+    wall_name = {"potential": "zeta", "charge": "charge_density"}.get(wall.condition,
+                                                                       "surface and pH")
+    value = wall._regulated_value(electrolyte) if wall.condition == "regulated" else wall.value
+    wall_shape = value.shape[1:] if wall.condition == "regulated" else wall.shape
+    wall_shape = np.broadcast_shapes(wall_shape, wall.stern_conductance.shape)
     shape = broadcast_named({**channel._parameter_shapes(),
                              "electrolyte (concentration, temperature)": electrolyte.shape,
-                             f"wall ({wall_name}, stern_conductance)": wall.shape})
+                             f"wall ({wall_name}, stern_conductance)": wall_shape})
     def bc(a):
         return np.broadcast_to(np.asarray(a, dtype=float), shape)
     def bcn(a):  # (n, *own_shape) -> (n, *shape), aligning the trailing axes
@@ -91,7 +95,8 @@ def _conditions(channel, electrolyte, wall):
         diffusivities=bcn(electrolyte.diffusivities),
         ion_names=tuple(i.name for i in electrolyte.ions),
         kappa=bc(1.0 / electrolyte.debye_length), wall_condition=wall.condition,
-        wall_value=bc(wall.value), stern_conductance=bc(wall.stern_conductance))
+        wall_value=bcn(value) if wall.condition == "regulated" else bc(value),
+        stern_conductance=bc(wall.stern_conductance))
 
 
 def _models(channel, cond, model, tol):
@@ -202,7 +207,7 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None,
     models, estimates = _models(channel, cond, model, tol)
     out = channel._kernel(cond, models, {"accuracy": accuracy, "model_errors": estimates,
                                          "time_budget": time_budget})
-    if cond.wall_condition == "charge":
+    if cond.wall_condition != "potential":
         # the same range for every model (model table): a linear (dh) wall
         # potential of kilovolts is refused like a pb one
         phi = np.abs(out["wall_potential"]) / cond.thermal_voltage * zmax
@@ -247,6 +252,12 @@ class Result:
         Potential at the wall (zeta) [V].
     wall_charge : ndarray
         Wall charge density [C/m²].
+    surface_potential, charged_fraction : ndarray
+        For a wall whose charge follows the chemistry
+        (``Wall(surface=..., pH=...)``): the potential of the charged plane [V]
+        and the fraction of sites that carry a charge [-], at the solved zeta
+        (``wall_potential``; ``wall_charge`` is then the sites' charge). Their
+        relative error is of the order of ``error_estimate``. NaN for other walls.
     debye_length : ndarray
         Debye length [m].
     kappa_size : ndarray
@@ -310,6 +321,15 @@ class Result:
         self.wall_potential = np.asarray(out["wall_potential"])
         self.wall_charge = np.asarray(out.get("wall_charge", np.full(shape, np.nan)))
         self.bulk_conductivity = conditions.bulk_conductivity()
+        # a charge-regulating wall: the state of its sites at the solved zeta
+        self.surface_potential = np.full(shape, np.nan)
+        self.charged_fraction = np.full(shape, np.nan)
+        if conditions.wall.nonlinear:
+            b = conditions.flat(np.ones(shape))
+            phi0, frac = conditions.wall.surface_state(
+                b.scaled_value, self.wall_potential.reshape(-1) / b.VT)
+            self.surface_potential = (phi0 * b.VT).reshape(shape)
+            self.charged_fraction = np.asarray(frac).reshape(shape)
 
     # -- the four coefficients -------------------------------------------------
     @property

@@ -31,7 +31,8 @@ _GL_W = 0.5 * _GL_W
 
 
 class Wall:
-    """A charged wall, at constant potential or at constant charge.
+    """A charged wall: at constant potential, at constant charge, or with a
+    charge that follows the chemistry (a :class:`ekexplore.Surface` and the pH).
 
     Parameters
     ----------
@@ -39,7 +40,13 @@ class Wall:
         Wall (zeta) potential [V], |zeta| <= 0.6. Gives a constant-potential wall.
     charge_density : array_like, optional
         Surface charge density [C/m²], |sigma| <= 1. Gives a constant-charge wall.
-        Give exactly one of ``zeta`` and ``charge_density``.
+        Give exactly one of ``zeta``, ``charge_density`` and ``surface``.
+    surface : Surface, optional
+        A wall material whose charge follows the pH (:class:`ekexplore.Surface`):
+        the charge is solved with the double layer of every model and shape.
+    pH : array_like, optional
+        Bulk pH [-], 0-14, with ``surface``; if not given, the electrolyte's
+        own ``pH`` when solved (an electrolyte without one is refused then).
     stern_conductance : array_like, optional
         Surface conductance of the Stern (immobile) layer [S], 0-1e-6; it adds
         perimeter/area x K_stern to the conduction and is carried by
@@ -56,12 +63,30 @@ class Wall:
     'potential'
     >>> Wall(charge_density=-0.01, stern_conductance=1e-9).condition
     'charge'
+    >>> from ekexplore import Surface
+    >>> Wall(surface=Surface.silica(), pH=7.0).condition
+    'regulated'
     """
 
-    def __init__(self, zeta=None, charge_density=None, stern_conductance=0.0):
-        if (zeta is None) == (charge_density is None):
-            raise ValueError("Wall: give exactly one of zeta [V] or charge_density [C/m^2]")
-        if zeta is not None:
+    def __init__(self, zeta=None, charge_density=None, stern_conductance=0.0, surface=None,
+                 pH=None):
+        if sum(v is not None for v in (zeta, charge_density, surface)) != 1:
+            raise ValueError("Wall: give exactly one of zeta [V], charge_density [C/m^2] or "
+                             "surface (with pH)")
+        self._surface, self._pH = None, None
+        if surface is not None:
+            if not hasattr(surface, "_pack"):
+                raise ValueError(f"surface must be an ekexplore.Surface, got {surface!r}")
+            self._cond = "regulated"
+            self._surface = surface
+            if pH is None:   # taken from the electrolyte when solved (it must have one)
+                self._value = None
+            else:
+                self._value = surface._pack(pH)
+                self._pH = np.asarray(pH, dtype=float)
+        elif pH is not None:
+            raise ValueError("pH: give it with a surface (it sets the surface charge)")
+        elif zeta is not None:
             self._cond = "potential"
             self._value = check_range("zeta", zeta, -ZETA_MAX, ZETA_MAX, unit="V")
         else:
@@ -74,8 +99,28 @@ class Wall:
 
     @property
     def condition(self):
-        """``"potential"`` or ``"charge"``."""
+        """``"potential"``, ``"charge"`` or ``"regulated"``."""
         return self._cond
+
+    @property
+    def surface(self):
+        """The :class:`ekexplore.Surface` of a regulated wall, else None."""
+        return self._surface
+
+    @property
+    def pH(self):
+        """The bulk pH of a regulated wall (None: the electrolyte's), else None."""
+        return self._pH
+
+    def _regulated_value(self, electrolyte):
+        """The packed surface rows, with the electrolyte's pH where none was given."""
+        if self._value is not None:
+            return self._value
+        pH = getattr(electrolyte, "pH", None)
+        if pH is None:
+            raise ValueError("pH: give Wall(surface=..., pH=...) [0, 14], or an electrolyte "
+                             "that has a pH")
+        return self._surface._pack(pH)
 
     @property
     def boundary(self):
@@ -106,11 +151,18 @@ class Wall:
     @property
     def shape(self):
         """Broadcast shape of the wall parameters."""
+        if self._cond == "regulated":
+            own = self._surface.shape if self._value is None else self._value.shape[1:]
+            return broadcast_named({"surface and pH": own,
+                                    "stern_conductance": self._stern.shape})
         name = "zeta" if self._cond == "potential" else "charge_density"
         return broadcast_named({name: self._value.shape,
                                 "stern_conductance": self._stern.shape})
 
     def __repr__(self):
+        if self._cond == "regulated":
+            return (f"Wall(surface={self._surface!r}, pH={self._pH!r}, "
+                    f"stern_conductance={self._stern!r})")
         name = "zeta" if self._cond == "potential" else "charge_density"
         return f"Wall({name}={self._value!r}, stern_conductance={self._stern!r})"
 
@@ -139,6 +191,9 @@ class WallCondition:
         The wall potential is imposed.
     nonlinear : bool
         The scaled charge depends on the wall potential.
+    rows : bool
+        The value carries rows of parameters ahead of the point axes, shape
+        (P, ...) (a charge-regulating surface), instead of one number per point.
     """
 
     name = "abstract"
@@ -146,6 +201,7 @@ class WallCondition:
     unit = ""
     dirichlet = False
     nonlinear = False
+    rows = False
 
     def scale(self, value, thermal_voltage, permittivity, length):  # pragma: no cover
         """The imposed value in scaled units at reference ``length`` [m]."""

@@ -43,8 +43,11 @@ def _series_means(s, phi_w, kappa, z):
 def _point_thin(channel, bk, geo, k, n, accuracy):
     """The slip model at one point: flow from the mesh, layer from the flat wall."""
     kind, dims, L = geo["spec"][k]
-    phi_w = float(bk.scaled_value[0]) if bk.wall.dirichlet else float(isolated_wall_potential(
-        bk.z, bk.weights, bk.K, bk.scaled_value)[0])
+    if bk.wall.nonlinear:   # the regulated isolated wall
+        phi_w = float(bk.wall.isolated_potential(bk.z, bk.weights, bk.K, bk.scaled_value)[0])
+    else:
+        phi_w = float(bk.scaled_value[0]) if bk.wall.dirichlet else float(
+            isolated_wall_potential(bk.z, bk.weights, bk.K, bk.scaled_value)[0])
     u_mean, err, shear = hydraulic(channel, geo["values"][k], kind, dims, L, n, accuracy)
     per_area = geo["perimeter"][k] / geo["area"][k] / bk.kappa
     means = thin_means(bk, np.array([phi_w]), per_area, shear)
@@ -53,6 +56,8 @@ def _point_thin(channel, bk, geo, k, n, accuracy):
     sigma = bk.value[0] if not bk.wall.dirichlet else float(
         bk.eps[0] * bk.VT[0] * bk.kappa[0]
         * isolated_wall_charge(bk.z[:, None], bk.weights, np.array([phi_w]))[0])
+    if bk.wall.nonlinear:
+        sigma = float(bk.wall.charge_density(bk.scaled_value, np.array([phi_w]))[0])
     return means, u_mean, sigma, phi_w, err
 
 
@@ -78,12 +83,16 @@ def _point_mesh(channel, bk, geo, k, n, accuracy, model, deadline):
     kappa = float(bk.kappa[0])
     lam = 1.0 / (kappa * L)
     z = bk.z
-    value = float(bk.scaled_value[0])
+    # one number per point, or the rows of a charge-regulating wall (P, 1)
+    value = bk.scaled_value if bk.wall.rows else float(bk.scaled_value[0])
     cond_name = bk.wall.name
     gouy = None
     if model == "pb":
-        phi_est = value if bk.wall.dirichlet else float(isolated_wall_potential(
-            z, bk.weights, bk.K, bk.scaled_value)[0])
+        if bk.wall.nonlinear:
+            phi_est = float(bk.wall.isolated_potential(z, bk.weights, bk.K, bk.scaled_value)[0])
+        else:
+            phi_est = value if bk.wall.dirichlet else float(isolated_wall_potential(
+                z, bk.weights, bk.K, bk.scaled_value)[0])
         gouy = gouy_scale(lam, z, phi_est)
     kl2 = (kappa * L) ** 2
     nk = n
@@ -105,7 +114,9 @@ def _point_mesh(channel, bk, geo, k, n, accuracy, model, deadline):
           ("l12", "l21", "mean_c", "conv", "phi_wall", "mean_g")}
     u_mean, err_flow, _ = hydraulic(channel, geo["values"][k], kind, dims, L, n, accuracy,
                                      need_shear=False)
-    sigma = bk.value[0] if not bk.wall.dirichlet else float(
+    # a fixed charge as imposed; otherwise the perimeter-mean charge that
+    # neutralises the space charge (for a regulated wall, the mean of the sites)
+    sigma = bk.value[0] if not (bk.wall.dirichlet or bk.wall.nonlinear) else float(
         neutrality_charge(bk, ex["mean_g"], rf["area"] / rf["perimeter"] * L)[0])
     return ex, u_mean, sigma, ex["phi_wall"], max(err, err_flow)
 

@@ -262,12 +262,16 @@ def section_profiles_factory(channel, cond, models, accuracy):
             c, w, lam_i = bk.c[:, 0], bk.charge_weights[:, 0], bk.molar_conductivity[:, 0]
             lam = 1.0 / (kappa * L)
             name = str(mods[k])
-            value = float(bk.scaled_value[0])
+            value = bk.scaled_value if bk.wall.rows else float(bk.scaled_value[0])
             if name == "thin":
                 mesh = build_mesh(kind, dims, n, lam)
                 u = flow_solution(mesh)["u"]
-                phi_w = value if bk.wall.dirichlet else float(isolated_wall_potential(
-                    z, bk.weights, bk.K, bk.scaled_value)[0])
+                if bk.wall.nonlinear:
+                    phi_w = float(bk.wall.isolated_potential(z, bk.weights, bk.K,
+                                                             bk.scaled_value)[0])
+                else:
+                    phi_w = value if bk.wall.dirichlet else float(isolated_wall_potential(
+                        z, bk.weights, bk.K, bk.scaled_value)[0])
                 dist = _wall_distance(mesh.points, mesh.wall_edges)
                 zc = np.max(np.abs(z))
                 phi = gouy_chapman_potential(zc, phi_w, np.exp(-dist / lam))

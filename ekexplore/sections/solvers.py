@@ -21,6 +21,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from ..doublelayer import donnan_potential, gouy_chapman_potential
+from ..wall import WALL_CONDITIONS
 from .assembly import factorize
 
 __all__ = ["flow_profile", "harmonic_extension", "solve_potential"]
@@ -122,6 +123,9 @@ def solve_potential(mesh, kl2, w, z, condition, value, model, guess=None):
     info : dict
         Newton iterations and the final update norm.
     """
+    if WALL_CONDITIONS[condition].nonlinear:
+        return _solve_nonlinear_wall(mesh, kl2, w, z, WALL_CONDITIONS[condition], value, model,
+                                     guess)
     K, m = mesh.K, mesh.m
     keep = w != 0
     w, z = w[keep], z[keep]
@@ -206,5 +210,83 @@ def solve_potential(mesh, kl2, w, z, condition, value, model, guess=None):
     else:
         raise FloatingPointError(
             f"internal error: 2D Poisson-Boltzmann Newton did not converge "
+            f"(last update {update:.3g}); please report the inputs")
+    return offset, dev, {"iterations": it, "update": update}
+
+
+def _solve_nonlinear_wall(mesh, kl2, w, z, wall, value, model, guess=None):
+    """:func:`solve_potential` for a wall whose charge s(phi) follows its
+    potential (a charge-regulating wall): every node is unknown, and each wall
+    node j carries the charge b_j s(phi_j) of its wall length.
+
+    Newton on the convex energy
+    0.5 phi.K.phi + (kappa L)^2 sum_j m_j P(phi_j) - sum_j b_j S(phi_j),
+    with P = sum_i (w_i/z_i) exp(-z_i phi) (pb) or phi^2/2 (dh) and S the
+    antiderivative of s (``wall.charge_energy``); the wall adds -b s'(phi)
+    >= 0 to the Jacobian's diagonal, so it stays positive definite. The
+    offset is the isolated regulated wall's potential, which only shifts the
+    variable. ``value`` holds the wall's scaled rows (P, 1).
+    """
+    K, m = mesh.K, mesh.m
+    keep = w != 0
+    w, z = w[keep], z[keep]
+    wall_nodes = mesh.wall
+    bw = mesh.b[wall_nodes]
+    K_scale = np.sqrt(kl2)
+    offset = float(wall.isolated_potential(z, (w / z)[:, None], np.array([K_scale]), value)[0])
+    we = w * np.exp(-z * offset)
+
+    def bulk(dev):
+        """(g, -dg/dphi, P) at offset + dev."""
+        if model == "dh":
+            phi = offset + dev
+            return -phi, np.ones_like(dev), 0.5 * phi**2
+        g, dg = _g(dev, we, z)
+        pot = np.zeros_like(dev)
+        for wi, zi in zip(we, z):
+            pot += (wi / zi) * np.exp(-zi * dev)
+        return g, dg, pot
+
+    def wall_terms(dev):
+        phi = offset + dev[wall_nodes]
+        return (wall.charge(value, phi), wall.charge_slope(value, phi),
+                wall.charge_energy(value, phi))
+
+    def energy(dev):
+        g, dg, pot = bulk(dev)
+        return 0.5 * _dot(dev, K @ dev) + kl2 * _dot(m, pot) - _dot(bw, wall_terms(dev)[2])
+
+    dev = np.zeros(mesh.n_nodes) if guess is None else np.array(guess, dtype=float) - offset
+    E0 = energy(dev)
+    update = np.inf
+    for it in range(1, _NEWTON_MAXIT + 1):
+        g, dg, _ = bulk(dev)
+        s_w, ds_w, _ = wall_terms(dev)
+        res = K @ dev - kl2 * m * g
+        res[wall_nodes] -= bw * s_w
+        diag = kl2 * m * dg
+        diag[wall_nodes] -= bw * ds_w
+        d = -factorize((K + sp.diags(diag)).tocsc()).solve(res)
+        step = 1.0
+        trial = dev.copy()
+        for _ in range(60):
+            trial = dev + step * d
+            with np.errstate(over="ignore", invalid="ignore"):
+                E1 = energy(trial)
+            if np.isfinite(E1) and (E1 <= E0 + 1e-4 * step * _dot(res, d) + 1e-13 * abs(E0)
+                                    or step < 1e-10):
+                break
+            step *= 0.5
+        dev, E0 = trial, E1
+        previous, update = update, step * np.max(np.abs(d))
+        spread = float(np.ptp(dev))
+        if update <= _NEWTON_TOL * max(spread, 1e-3) or \
+                update <= 1e-15 * max(1.0, np.max(np.abs(dev))):
+            break
+        if update <= 1e-9 * max(spread, 1.0) and update > 0.25 * previous:
+            break
+    else:
+        raise FloatingPointError(
+            f"internal error: 2D regulated-wall Newton did not converge "
             f"(last update {update:.3g}); please report the inputs")
     return offset, dev, {"iterations": it, "update": update}
