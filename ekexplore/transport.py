@@ -429,6 +429,15 @@ class Result:
 
     Notes
     -----
+    Memory: a result keeps ``RESULT_BYTES_PER_POINT`` (65) bytes a point (the
+    matrix, ``error_estimate``, ``wall_potential``, ``wall_charge``, the
+    counter-ion current and a model code) besides views of the inputs;
+    ``model``, ``debye_length``, ``kappa_size``, ``bulk_conductivity``, the
+    surface state and every derived quantity are computed on each access.
+    ``solve`` runs slit and tube batches in chunks of ``SOLVE_CHUNK`` points,
+    so its working memory above the result stays bounded at any batch size
+    (``benchmarks/bench_memory.py``).
+
     The coefficients, the derived quantities (``electroosmotic_mobility``,
     ``streaming_potential_coefficient``, ``dukhin``, ``coupling_degree``,
     ``max_efficiency``, ``counterion_share``, ...) and the whole-channel
