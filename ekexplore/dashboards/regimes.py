@@ -49,8 +49,8 @@ class RegimesView(ViewUpdates):
         self.readout.add_class("ekx-readout")
         self.ph_layer = w.Dropdown(options=[(f"{v[0]} [{v[1]}]", k)
                                             for k, v in compute.PH_LAYERS.items()],
-                                   value="zeta", description="pH map shows",
-                                   style={"description_width": "90px"},
+                                   value="zeta", description="pH map layer",
+                                   style={"description_width": "100px"},
                                    layout=w.Layout(width="420px"))
         self.ph_readout = w.HTML()
         self.ph_readout.add_class("ekx-ph-readout")
@@ -163,7 +163,7 @@ class RegimesView(ViewUpdates):
         self.ph_plots.layout.display = None if self.last_ph is not None else "none"
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
                         "<span class='ekx-sub'>&nbsp; tap a map to move the operating point; "
-                        "hover to read values; one colour scale (right) for the two top maps; grey: outside the solver range; with a material wall, a pH map below</span>")
+                        "hover to read values; grey: outside the solver range or out of reach; a material wall adds a pH map</span>")
         right = w.VBox([self.status.widget, self.layer, self.plots, self.readout,
                         self.ph_layer, self.ph_plots, self.ph_readout, self.export.widget],
                        layout=w.Layout(flex="1 1 auto", max_width="920px", min_width="0",
@@ -355,7 +355,8 @@ class RegimesView(ViewUpdates):
         # label each contour where it leaves the plot on the low-concentration side
         tx, ty, tt = [], [], []
         for lev, (x, y) in a["contours"].items():
-            inside = (y >= SIZE_RANGE[0]) & (y <= SIZE_RANGE[1]) & (x >= 3e-3)
+            x_start = self.figures["size"].x_range.start
+            inside = (y >= SIZE_RANGE[0]) & (y <= SIZE_RANGE[1]) & (x >= 3.0 * x_start)
             if np.any(inside):
                 k = np.flatnonzero(inside)[0]
                 tx.append(x[k])
@@ -418,7 +419,7 @@ class RegimesView(ViewUpdates):
         floor = float(np.asarray(m["floor"]))
         grey = []
         if floor > 0:
-            grey.append(f"below {num(floor)} mM (the {'buffer' if st.buffer else 'carbonate'} "
+            grey.append(f"Below {num(floor)} mM (the {'buffer' if st.buffer else 'carbonate'} "
                         "alone, pH dependent) no salt can reach the ionic strength")
         if m["n_valid"] < m["n_cells"]:
             grey.append("grey: out of reach or outside the solver range")
