@@ -372,3 +372,20 @@ def test_device_page_shows_the_material_wall():
     within_display(float(re.search(r"ζ = (\S+) mV", text).group(1)), zeta * 1e3)
     within_display(float(re.search(r"σ = (\S+) mC/m²", text).group(1)), sigma * 1e3)
     within_display(float(re.search(r"charged sites (\S+) %", text).group(1)), f * 100)
+
+
+def test_pH_map_of_a_2D_section_is_that_of_the_slit_of_its_half_size():
+    from ekexplore.dashboards import compute
+    st = State(shape="Rectangle", wall_mode="material", material="silica", salt_pH=7.0)
+    st.shape_params = dict(st.shape_params, width=400e-6, depth=200e-6)
+    m = compute.map_pH(st, n_pH=5, n_I=6)
+    c = m["cells"]
+    # kappa*a above the solver's 1e5 (the top decade of salt) is left out
+    assert 20 <= m["n_valid"] < m["n_cells"] == 30
+    # half-size 100 um (half the depth): kappa*a >= 300 from 0.1 mM, an isolated wall
+    checked = np.flatnonzero(np.asarray(c["x"]) > 0.1)
+    assert checked.size >= 15
+    for k in checked:
+        zeta, _, _ = isolated_wall(lambda p: silanol(p, float(c["y"][k])), 2.9,
+                                   float(c["x"][k]))
+        within_display(float(c["zeta"][k]) * 1e3, zeta * 1e3, digits=6)

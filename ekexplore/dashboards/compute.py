@@ -721,11 +721,13 @@ def map_pH(state, n_pH=24, n_I=30):
     only) with the salt that brings the ionic strength to the cell's value
     (buffer ions included). Without a buffer the pH is what the wall's sites
     see, the ions are the salt's (the acid or base that would set that pH is
-    not added). Returns None unless the wall is a material.
+    not added). A 2D section is mapped as the slit of the same half-size
+    (:func:`map_proxy`). Returns None unless the wall is a material.
     """
     from .state import CONCENTRATION_RANGE
     if state.wall_mode != "material":
         return None
+    size = state.size
     state, factor = map_proxy(state)
     rng = state.buffer_pH_range() or PH_MAP_RANGE
     h0, h1, hc = _edges_lin(rng[0], rng[1], n_pH)
@@ -733,9 +735,9 @@ def map_pH(state, n_pH=24, n_I=30):
     I, H = np.meshgrid(ic, hc, indexing="ij")
     C = state.salt_for_ionic_strength(I, H if state.buffer else None)
     lam = ek.debye_length(I, state.temperature)
-    ka = half_size_ratio(state) * state.size * factor / lam
+    ka = half_size_ratio(state) * size * factor / lam
     ok = np.isfinite(C) & (ka >= KAPPA_SIZE_RANGE[0] * 1.01) & (ka <= KAPPA_SIZE_RANGE[1] * 0.99)
-    kw = dict(concentration=C[ok], size=state.size * factor)
+    kw = dict(concentration=C[ok], size=size * factor)
     if state.buffer:
         kw["electrolyte_pH"] = H[ok]      # the buffer re-titrated; the wall sees its pH
     else:
@@ -744,12 +746,9 @@ def map_pH(state, n_pH=24, n_I=30):
     ii, hh = np.nonzero(ok)
     cells = dict(left=i0[ii], right=i1[ii], bottom=h0[hh], top=h1[hh], x=ic[ii], y=hc[hh],
                  **vals)
-    here = state.solve()
     point = (float(state.ionic_strength()), state.wall_pH())
     return {"cells": cells, "point": point, "n_valid": int(ok.sum()), "n_cells": n_pH * n_I,
-            "pH_range": rng, "floor": ionic_strength_floor(state),
-            "here": {k: (float(v) if k != "model" else str(v)) for k, v in
-                     _pH_values(here).items()}}
+            "pH_range": rng, "floor": ionic_strength_floor(state)}
 
 
 def _pH_values(r):

@@ -276,10 +276,12 @@ class RegimesView(ViewUpdates):
             self.last_size["point"] = (float(snap.ionic_strength()), snap.size)
         if snap.wall_mode != "material":
             self.last_ph = None
-        elif c is not None:
-            self.last_ph, self._key_c_done = c, key_c
         else:
-            self.last_ph["point"] = (float(snap.ionic_strength()), snap.wall_pH())
+            if c is not None:
+                self.last_ph, self._key_c_done = c, key_c
+            else:
+                self.last_ph["point"] = (float(snap.ionic_strength()), snap.wall_pH())
+            # the readout at the operating point: the real channel (a section too)
             self.last_ph["here"] = {k: (float(v) if k != "model" else str(v))
                                     for k, v in compute._pH_values(ex.result).items()}
         self.snap = snap
