@@ -61,6 +61,17 @@ def test_debye_huckel_A_against_published_table(t, A):
     assert_allclose(debye_huckel_A(t + C0), A, rtol=8e-3)
 
 
+def test_good_buffer_pk_against_vega_bates_1976():
+    # Independent emf measurements (cells without liquid junction, I -> 0):
+    # Vega & Bates 1976, "Buffers for the physiological pH range: thermodynamic
+    # constants of four substituted aminoethanesulfonic acids from 5 to 50 degC",
+    # Anal. Chem. 48, 1293, doi:10.1021/ac50003a010 (abstract): pK2 at 25 degC
+    # MES 6.270, HEPES 7.565. The package's values (Goldberg et al. 2002, from
+    # memory) must agree within 0.003.
+    assert abs(float(ACIDS["MES"].pKs(T25)[0]) - 6.270) < 3e-3
+    assert abs(float(ACIDS["HEPES"].pKs(T25)[0]) - 7.565) < 3e-3
+
+
 def test_pk_equation_is_van_t_hoff_with_heat_capacity():
     # d pK/dT = -Delta_r H(T)/(R ln10 T^2) with Delta_r H(T) = H + Cp (T - theta)
     # (Goldberg et al. 2002, eqs. 1-4), by finite differences here.
