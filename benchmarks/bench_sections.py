@@ -15,6 +15,11 @@ the ratios. The points depend on the seed only; run it once per checkout
 with that checkout first on PYTHONPATH (a point the checkout refuses as out
 of range is counted, not timed). A point over the cap (B7_CAP, default
 120 s) counts as the cap.
+
+Before/after on the same load: ``python benchmarks/bench_sections.py
+distribution N --before=FOLDER`` solves each point with this checkout and
+with the package in FOLDER (e.g. a ``git worktree`` of an older commit)
+back to back, and reports both distributions and the per-point ratios.
 """
 import json
 import os
@@ -264,6 +269,62 @@ def distribution(n=64, out=None, cap=None):
     return summary
 
 
+def paired(before, n=100, out=None, cap=None):
+    """The distribution of this checkout and of the checkout at ``before`` (a
+    folder to put first on PYTHONPATH) on the same random points, each point
+    solved by both back to back (alternating which goes first), so both see
+    the same load: the per-point ratio after/before is load-free where the
+    two distributions measured in separate runs are not."""
+    import ekexplore
+    cap = float(os.environ.get("B7_CAP", "120")) if cap is None else cap
+    paths = {"after": os.path.dirname(os.path.dirname(ekexplore.__file__)), "before": before}
+    print(f"after: {paths['after']}; before: {paths['before']}")
+    rows = {"after": [], "before": []}
+    for seed in range(n):
+        order = ("after", "before") if seed % 2 == 0 else ("before", "after")
+        for which in order:
+            env = {**os.environ, "PYTHONPATH": paths[which]}
+            try:
+                res = subprocess.run([sys.executable, "-c", DIST_CHILD, str(seed)], env=env,
+                                     capture_output=True, text=True, timeout=cap + 60)
+                row = json.loads(res.stdout.strip().splitlines()[-1]) if res.stdout.strip() \
+                    else {"seed": seed, "failed": (res.stderr.strip().splitlines()
+                                                   or ["?"])[-1][:120]}
+            except subprocess.TimeoutExpired:
+                row = {"seed": seed, "seconds": cap, "over_cap": True}
+            rows[which].append(row)
+        a, b = rows["after"][-1], rows["before"][-1]
+        if "seconds" in a and "seconds" in b:
+            print(f"  {seed:3d} {a['shape']:13s} {a['model']:4s} {a['wall']:6s} after "
+                  f"{a['seconds']:7.2f} s (err {a['error']:.1e}) before {b['seconds']:7.2f} s "
+                  f"(err {b['error']:.1e}) {' '.join(a.get('warnings', []))}", flush=True)
+        else:
+            print(f"  {seed:3d} after {a} before {b}", flush=True)
+    both = [(a, b) for a, b in zip(rows["after"], rows["before"])
+            if "seconds" in a and "seconds" in b]
+    ta = np.array([a["seconds"] for a, _ in both])
+    tb = np.array([b["seconds"] for _, b in both])
+    print(f"2D solve time, {len(both)} random valid points solved by both checkouts:")
+    for name, t in (("before", tb), ("after", ta)):
+        print(f"  {name:6s}: median {np.median(t):.3f} s, 90th percentile "
+              f"{np.percentile(t, 90):.3f} s, max {t.max():.2f} s")
+    r = ta / tb
+    print(f"  per-point ratio after/before: median {np.median(r):.2f}, 90th percentile "
+          f"{np.percentile(r, 90):.2f}, max {r.max():.1f}; ratio of the medians "
+          f"{np.median(ta) / np.median(tb):.2f}, of the 90th percentiles "
+          f"{np.percentile(ta, 90) / np.percentile(tb, 90):.2f}, of the maxima "
+          f"{ta.max() / tb.max():.2f}")
+    for model in ("thin", "dh", "pb", "auto"):
+        sel = [i for i, (a, _) in enumerate(both) if a["model"] == model]
+        if sel:
+            print(f"  {model:4s}: {len(sel):2d} points, median before {np.median(tb[sel]):.3f} s"
+                  f" after {np.median(ta[sel]):.3f} s, max before {tb[sel].max():.2f} s after "
+                  f"{ta[sel].max():.2f} s")
+    if out:
+        with open(out, "w") as f:
+            json.dump(rows, f, indent=1)
+
+
 def main(quick=False):
     bench_default(quick)
     bench_large(quick)
@@ -273,8 +334,12 @@ def main(quick=False):
 
 if __name__ == "__main__":
     if len(sys.argv) > 1 and sys.argv[1] == "distribution":
-        args = [a for a in sys.argv[2:] if not a.startswith("--out=")]
+        args = [a for a in sys.argv[2:] if not a.startswith("--")]
         dest = [a.split("=", 1)[1] for a in sys.argv[2:] if a.startswith("--out=")]
-        distribution(int(args[0]) if args else 64, dest[0] if dest else None)
+        before = [a.split("=", 1)[1] for a in sys.argv[2:] if a.startswith("--before=")]
+        if before:
+            paired(before[0], int(args[0]) if args else 100, dest[0] if dest else None)
+        else:
+            distribution(int(args[0]) if args else 64, dest[0] if dest else None)
     else:
         main()

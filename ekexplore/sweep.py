@@ -12,8 +12,8 @@ a sweep runs.
 from __future__ import annotations
 
 import ctypes
+import gc
 import hashlib
-import itertools
 import json
 import os
 import signal
@@ -111,12 +111,14 @@ def design_table(grid=None, table=None, **fixed):
         for n, v in zip(names, values):
             if v.size == 0:
                 raise ValueError(f"grid[{n!r}] is empty; give at least one value")
-        combos = list(itertools.product(range(rows), *[range(len(v)) for v in values]))
-        idx = np.array(combos, dtype=int).reshape(len(combos), -1)
-        cols = {k: v[idx[:, 0]] for k, v in cols.items()}
+        # every combination, the last name varying fastest (itertools.product's
+        # order), as index arrays: 8 bytes a design per name, not a Python tuple
+        idx = np.indices((rows, *[len(v) for v in values])).reshape(len(values) + 1, -1)
+        cols = {k: v[idx[0]] for k, v in cols.items()}
         for j, (n, v) in enumerate(zip(names, values)):
-            cols[n] = v[idx[:, j + 1]]
-        rows = len(combos)
+            cols[n] = v[idx[j + 1]]
+        rows = idx.shape[1]
+        del idx
     for k, v in fixed.items():
         cols[k] = np.full(rows, v)
     return cols
@@ -394,7 +396,9 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
         finished designs are only written to the file and sweep returns None,
         so its memory stays bounded however many designs there are: the
         design table (8 bytes a design per input column) and one chunk
-        (``benchmarks/bench_memory.py`` measures it at 1e7 designs). Read the
+        (``benchmarks/bench_memory.py`` measures it: 1e5 to 1e6 designs of
+        dh within 100 MiB above the design table). With an ``executor``
+        the finished chunks' results stay with their futures until the end. Read the
         file in pieces with ``pandas.read_csv(output, skiprows=1,
         chunksize=...)`` or whole with :func:`read_sweep`.
     resume : bool
@@ -592,6 +596,9 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
             if fh is not None and len(part):
                 part.to_csv(fh, header=False, index=False, columns=columns)
                 _sync(fh)
+            if not in_memory:
+                del part, res
+                gc.collect()   # a chunk's table and text are freed now, not at a later full GC
             if bar is not None:
                 bar.update(len(idx))
             if failure is not None:
