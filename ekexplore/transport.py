@@ -311,7 +311,8 @@ class Result:
         self.model = np.asarray(out["model"])
         self.error_estimate = np.asarray(out["error"])
         self.error_method = ERROR_METHOD if model == "auto" else (
-            "Richardson difference of a two-grid solve" if model == "pb" else
+            "error of the Richardson-extrapolated value, from extra coarser grids (1D) or "
+            "levels (2D)" if model == "pb" else
             "none: closed form of the chosen model (see ekexplore.regimes for its range)")
         self.permittivity = conditions.permittivity
         self.viscosity = conditions.viscosity
