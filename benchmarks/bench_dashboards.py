@@ -24,15 +24,14 @@ Run: python benchmarks/run.py bench_dashboards [--quick]
 from __future__ import annotations
 
 import argparse
+import contextlib
 import os
 import shutil
-import signal
 import statistics
 import subprocess
 import sys
 import tempfile
 import time
-import urllib.request
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -335,64 +334,28 @@ def print_b2(rows, other):
 # B3: browser-observed latency
 # ---------------------------------------------------------------------------
 class _Server:
-    """``python -m ekexplore serve`` on a free port; ``stop()`` always kills it."""
+    """``python -m ekexplore serve`` on a free port, through the shared helper
+    :func:`ekexplore._serve.running_server`; ``stop()`` always stops it."""
 
     def __init__(self, timeout=90):
+        from ekexplore._serve import running_server
         self.log = tempfile.NamedTemporaryFile("w", prefix="ekexplore-bench-serve-",
                                                suffix=".log", delete=False)
-        self.proc = subprocess.Popen(
-            [sys.executable, "-m", "ekexplore", "serve", "--cull-idle", "120",
-             "--cull-interval", "30"],
-            stdout=subprocess.PIPE, stderr=self.log, text=True, start_new_session=True,
-            cwd=ROOT)
+        self._stack = contextlib.ExitStack()
         try:
-            self._wait_ready(timeout)
+            srv = self._stack.enter_context(running_server(
+                "--cull-idle", "120", "--cull-interval", "30", log=self.log, timeout=timeout))
         except BaseException:
-            self._kill()     # never leave a server behind; its log is kept
+            self._stack.close()     # never leave a server behind; its log is kept
+            self.log.close()
             raise
-
-    def _wait_ready(self, timeout):
-        self.base = None
-        deadline = time.monotonic() + timeout
-        lines = []
-        while time.monotonic() < deadline and self.base is None:
-            line = self.proc.stdout.readline()
-            if not line:
-                if self.proc.poll() is not None:
-                    break
-                continue
-            lines.append(line)
-            if "read-only) at " in line:
-                self.base, _, token = line.split(" at ", 1)[1].strip().partition("/?token=")
-                self.query = f"?token={token}"     # authenticates a page: base + path + query
-        if self.base is None:
-            raise RuntimeError("ekexplore serve printed no URL: " + "".join(lines))
-        # a static asset: fetching a notebook URL would start a kernel
-        probe = self.base + "/voila/templates/lab/static/voila.js"
-        while time.monotonic() < deadline:
-            try:
-                with urllib.request.urlopen(probe, timeout=2) as resp:
-                    if resp.status == 200:
-                        return
-            except OSError:
-                time.sleep(0.3)
-        raise RuntimeError(f"server did not answer at {probe} (log: {self.log.name})")
+        self.base, self.query = srv["base"], srv["q"]   # a page: base + path + query
 
     def stop(self):
-        """Kill the server and remove its log."""
-        self._kill()
-        os.unlink(self.log.name)
-
-    def _kill(self):
-        if self.proc.poll() is None:
-            os.killpg(self.proc.pid, signal.SIGINT)
-            try:
-                self.proc.wait(timeout=15)
-            except subprocess.TimeoutExpired:
-                os.killpg(self.proc.pid, signal.SIGKILL)
-                self.proc.wait(timeout=5)
-        self.proc.stdout.close()
+        """Stop the server and remove its log."""
+        self._stack.close()
         self.log.close()
+        os.unlink(self.log.name)
 
 
 # In the page: the time of each keydown (capture phase, before the slider's own

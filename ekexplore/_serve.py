@@ -23,16 +23,25 @@ seconds loses its kernel.
 Run by :func:`ekexplore.__main__.serve`; the token comes in the environment
 variable :data:`ENV_TOKEN` (never on the command line, which other users of
 the machine can read).
+
+:func:`running_server` starts and stops ``ekexplore serve`` from Python for
+the tests, the benchmarks and scripts (it runs in the caller's process).
 """
 from __future__ import annotations
 
 import argparse
+import contextlib
 import html
 import inspect
 import ipaddress
 import os
+import re
+import signal
 import socket
+import subprocess
 import sys
+import threading
+import time
 
 ENV_TOKEN = "EKEXPLORE_TOKEN"
 LOOPBACK_NAMES = ("localhost", "127.0.0.1", "::1")
@@ -220,6 +229,117 @@ def voila_argv(root, port, host, max_kernels, cull_idle, cull_interval):
             f"--MappingKernelManager.cull_interval={int(cull_interval)}",
             "--MappingKernelManager.cull_connected=True",
             f"--GuardedVoila.max_kernels={int(max_kernels)}"]
+
+
+# --- starting and stopping a server from Python (tests, benchmarks, scripts) ---------
+
+#: The line ``ekexplore serve`` prints once the server answers: origin and token.
+URL_LINE = re.compile(r"read-only\) at (http://[^/\s]+)/\?token=(\S+)")
+
+
+def stop_process_group(proc, timeout=15.0, interrupts=1):
+    """Stop a process started with ``start_new_session=True`` and its children.
+
+    Sends SIGINT to its process group ``interrupts`` times (half a second
+    apart; a Jupyter server asks to confirm the first one), waits up to
+    ``timeout`` [s], then kills the group. Returns the exit code.
+    """
+    for k in range(interrupts):
+        if proc.poll() is not None:
+            break
+        if k:
+            time.sleep(0.5)
+        os.killpg(proc.pid, signal.SIGINT)
+    try:
+        proc.wait(timeout=timeout)
+    except subprocess.TimeoutExpired:
+        os.killpg(proc.pid, signal.SIGKILL)
+        proc.wait(timeout=5)
+    return proc.returncode
+
+
+def _read_lines(stream, lines, ready):
+    """Collect the server's standard output (a thread: reads never block the
+    caller, and the pipe never fills); ``ready`` is set at the URL block's end."""
+    for line in stream:
+        lines.append(line)
+        if "Ctrl+C" in line:
+            ready.set()
+    ready.set()
+
+
+@contextlib.contextmanager
+def running_server(*options, log=None, env=None, timeout=180.0, on_url=None):
+    """Run ``ekexplore serve`` on a free localhost port for the ``with`` block.
+
+    Parameters
+    ----------
+    *options : str
+        Command-line options of ``ekexplore serve`` (``"--max-kernels", "1"``).
+    log : file, optional
+        Where the server's standard error goes (discarded by default).
+    env : dict, optional
+        Extra environment variables. The directory of this ``ekexplore`` comes
+        first on ``PYTHONPATH``, so the server and its kernels run the same
+        code as the caller; an inherited token variable is dropped.
+    timeout : float
+        Bound [s] on the wait for the printed URL (the server prints it only
+        once it answers).
+    on_url : callable, optional
+        Called with the port as soon as the URL line is read, before anything
+        else is sent to the server (a test of "printed only once answering").
+
+    Yields
+    ------
+    dict
+        ``base`` (``http://127.0.0.1:PORT``), ``port``, ``token``, ``q``
+        (``?token=...``: ``base + path + q`` authenticates a page),
+        ``printed`` (standard output up to "Ctrl+C"), ``start_s`` [s] from
+        start to the URL block, ``on_url`` (what ``on_url`` returned),
+        ``proc`` (the :class:`subprocess.Popen`).
+
+    The server's process group is always stopped on leaving the block
+    (:func:`stop_process_group`), also when it failed to start, which raises
+    RuntimeError with what it printed.
+    """
+    package_root = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
+    run_env = {k: v for k, v in os.environ.items() if k != ENV_TOKEN}
+    run_env.update(env or {})
+    run_env["PYTHONPATH"] = os.pathsep.join(
+        p for p in (package_root, run_env.get("PYTHONPATH")) if p)
+    t0 = time.monotonic()
+    proc = subprocess.Popen([sys.executable, "-m", "ekexplore", "serve", *options],
+                            stdout=subprocess.PIPE, stderr=log or subprocess.DEVNULL,
+                            text=True, start_new_session=True, env=run_env)
+    lines, ready = [], threading.Event()
+    reader = threading.Thread(target=_read_lines, args=(proc.stdout, lines, ready), daemon=True)
+    reader.start()
+    try:
+        yield _started(proc, lines, ready, t0, timeout, on_url)
+    finally:
+        stop_process_group(proc)
+        reader.join(timeout=5)
+        proc.stdout.close()
+
+
+def _started(proc, lines, ready, t0, timeout, on_url):
+    """Wait for the URL line (calling ``on_url``) and the end of the URL block."""
+    deadline, found, hook = t0 + timeout, None, None
+    while found is None and time.monotonic() < deadline and not ready.is_set():
+        found = next((m for m in map(URL_LINE.search, list(lines)) if m), None)
+        if found is None:
+            time.sleep(0.02)
+    found = found or next((m for m in map(URL_LINE.search, list(lines)) if m), None)
+    if found is None:
+        raise RuntimeError(f"ekexplore serve printed no URL within {timeout:.0f} s "
+                           f"(exit code {proc.poll()}):\n" + "".join(lines))
+    base, token = found.groups()
+    if on_url is not None:
+        hook = on_url(int(base.rsplit(":", 1)[1]))
+    ready.wait(max(0.0, deadline - time.monotonic()))
+    return {"base": base, "port": int(base.rsplit(":", 1)[1]), "token": token,
+            "q": f"?token={token}", "printed": "".join(lines),
+            "start_s": time.monotonic() - t0, "on_url": hook, "proc": proc}
 
 
 def main(argv=None):

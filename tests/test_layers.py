@@ -14,7 +14,7 @@ LAYERS = {
     "medium": 1,
     "electrolyte": 2, "chemistry": 2, "conductivity": 2,
     "wall": 3, "surface": 3,
-    "doublelayer": 4, "_regulated": 4, "_state": 4,
+    "doublelayer": 4, "_state": 4,
     "models": 5,
     "coefficients": 6,
     "profiles": 7,

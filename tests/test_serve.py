@@ -13,11 +13,7 @@ from __future__ import annotations
 import asyncio
 import http.client
 import json
-import os
 import re
-import signal
-import subprocess
-import sys
 import time
 import uuid
 from concurrent.futures import ThreadPoolExecutor
@@ -59,44 +55,19 @@ def _request(port, path, host=None, headers=None, method="GET", body=None, timeo
 
 @pytest.fixture(scope="module")
 def server():
-    env = {**os.environ, "PYTHONPATH": str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", "")}
-    env.pop(_serve.ENV_TOKEN, None)
-    log = open(ROOT / "test-artifacts" / "serve-protections.log", "w") \
-        if (ROOT / "test-artifacts").is_dir() else subprocess.DEVNULL
-    proc = subprocess.Popen(
-        [sys.executable, "-m", "ekexplore", "serve", "--max-kernels", "1",
-         "--cull-idle", str(CULL_IDLE), "--cull-interval", str(CULL_INTERVAL)],
-        stdout=subprocess.PIPE, stderr=log, text=True, start_new_session=True, cwd=ROOT,
-        env=env)
-    lines, first_probe, t0 = [], None, time.monotonic()
+    """One server for the module (the shared helper of ``ekexplore._serve``);
+    ``first_probe`` is the status of the very first request sent after the
+    URL appeared, with no retry."""
+    artifacts = ROOT / "test-artifacts"
+    log = open(artifacts / "serve-protections.log", "w") if artifacts.is_dir() else None
     try:
-        deadline = time.monotonic() + START_TIMEOUT
-        while time.monotonic() < deadline:
-            line = proc.stdout.readline()
-            if not line:
-                break
-            lines.append(line)
-            if " at http://" in line and first_probe is None:
-                port = int(re.search(r":(\d+)/", line).group(1))
-                # the very first request after the URL appears, with no retry
-                first_probe = _request(port, cli.PROBE_PATH)[0]
-            if "Ctrl+C" in line:
-                break
-        printed = "".join(lines)
-        m = re.search(r"at http://127\.0\.0\.1:(\d+)/\?token=(\S+)", printed)
-        if m is None:
-            pytest.fail(f"ekexplore serve printed no URL within {START_TIMEOUT} s:\n{printed}")
-        yield {"port": int(m.group(1)), "token": m.group(2), "printed": printed,
-               "first_probe": first_probe, "start_s": time.monotonic() - t0, "proc": proc}
+        with _serve.running_server(
+                "--max-kernels", "1", "--cull-idle", str(CULL_IDLE),
+                "--cull-interval", str(CULL_INTERVAL), log=log, timeout=START_TIMEOUT,
+                on_url=lambda port: _request(port, cli.PROBE_PATH)[0]) as srv:
+            yield {**srv, "first_probe": srv["on_url"]}
     finally:
-        if proc.poll() is None:
-            os.killpg(proc.pid, signal.SIGINT)
-            try:
-                proc.wait(timeout=20)
-            except subprocess.TimeoutExpired:
-                os.killpg(proc.pid, signal.SIGKILL)
-                proc.wait(timeout=5)
-        if log is not subprocess.DEVNULL:
+        if log is not None:
             log.close()
 
 

@@ -19,6 +19,9 @@ Outside sources checked here:
   doi:10.6028/jres.056.001: permittivity of water (used by the independent
   solutions written here).
 """
+import importlib.util
+import pathlib
+
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
@@ -34,6 +37,20 @@ KB = constants.k
 # thin and dh are forced here on purpose, also outside their accurate range, and
 # compared with independent solutions of the same model: their range warning is expected
 pytestmark = pytest.mark.filterwarnings("ignore:model=")
+
+
+def _load_reference():
+    """The second, differently built regulated-wall solver kept beside the
+    tests (tests/_regulated_reference.py), loaded by path: the tests folder is
+    not a package."""
+    path = pathlib.Path(__file__).with_name("_regulated_reference.py")
+    spec = importlib.util.spec_from_file_location("_regulated_reference", path)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+REFERENCE = _load_reference()
 
 
 def eps_water(T):
@@ -328,7 +345,7 @@ def test_bad_input_names_parameter_value_and_range(make, words):
 # ---------------------------------------------------------------------------
 from scipy.integrate import solve_bvp  # noqa: E402
 
-from ekexplore._regulated import regulated_layer  # noqa: E402
+regulated_layer = REFERENCE.regulated_layer
 
 
 def bvp_regulated(m, R, electrolyte, sites, C, pH, T=298.15):
@@ -490,7 +507,7 @@ def test_regulated_batch_equals_single_points():
 # ---------------------------------------------------------------------------
 from scipy import special  # noqa: E402
 
-from ekexplore._regulated import regulated_wall  # noqa: E402
+regulated_wall = REFERENCE.regulated_wall
 
 
 def dh_silica_scalar(m, R, c_mM, pH, T=298.15, pK=7.5, gamma=8e18, C=2.9):

@@ -11,14 +11,12 @@ from __future__ import annotations
 import contextlib
 import os
 import shutil
-import signal
-import subprocess
 import sys
-import time
-import urllib.request
 from pathlib import Path
 
 import pytest
+
+from ekexplore._serve import running_server
 
 ROOT = Path(__file__).resolve().parents[2]
 ARTIFACTS = ROOT / "test-artifacts"
@@ -49,56 +47,12 @@ def chromium_path():
 
 @contextlib.contextmanager
 def start_server(*extra, log_name="serve.log"):
-    """Run ``ekexplore serve`` on a free localhost port; always stopped after."""
+    """Run ``ekexplore serve`` on a free localhost port (the shared helper
+    :func:`ekexplore._serve.running_server`); always stopped after. Its
+    standard error goes to ``test-artifacts/<log_name>``."""
     ARTIFACTS.mkdir(exist_ok=True)
-    out = open(ARTIFACTS / log_name, "w")
-    proc = subprocess.Popen([sys.executable, "-m", "ekexplore", "serve", *extra],
-                            stdout=subprocess.PIPE, stderr=out, text=True,
-                            start_new_session=True, cwd=ROOT)
-    base = token = None
-    deadline = time.monotonic() + 60
-    lines = []
-    try:
-        while time.monotonic() < deadline and base is None:
-            line = proc.stdout.readline()
-            if not line:
-                if proc.poll() is not None:
-                    break
-                continue
-            lines.append(line)
-            if "read-only) at " in line:
-                # http://host:port/?token=...: the origin and the token apart
-                base, _, token = line.split(" at ", 1)[1].strip().partition("/?token=")
-        while time.monotonic() < deadline and base is not None:
-            line = proc.stdout.readline()
-            lines.append(line)
-            if not line or "Ctrl+C" in line:
-                break
-        if base is None:
-            pytest.fail("ekexplore serve printed no URL: " + "".join(lines))
-        # Wait on a static asset: fetching a notebook URL would start a kernel.
-        probe = base + "/voila/templates/lab/static/voila.js"
-        while time.monotonic() < deadline:
-            try:
-                with urllib.request.urlopen(probe, timeout=2) as resp:
-                    if resp.status == 200:
-                        break
-            except OSError:
-                time.sleep(0.3)
-        else:
-            pytest.fail(f"server did not answer at {probe}")
-        # "q" is the query that authenticates a page: base + path + q
-        yield {"base": base, "token": token, "q": f"?token={token}",
-               "printed": "".join(lines), "proc": proc}
-    finally:
-        if proc.poll() is None:
-            os.killpg(proc.pid, signal.SIGINT)
-            try:
-                proc.wait(timeout=15)
-            except subprocess.TimeoutExpired:
-                os.killpg(proc.pid, signal.SIGKILL)
-                proc.wait(timeout=5)
-        out.close()
+    with open(ARTIFACTS / log_name, "w") as log, running_server(*extra, log=log) as srv:
+        yield srv
 
 
 def kernel_processes(server_proc):

@@ -7,7 +7,6 @@ import importlib.util
 import os
 import re
 import secrets
-import signal
 import subprocess
 import sys
 import time
@@ -15,6 +14,8 @@ import urllib.request
 from pathlib import Path
 
 import pytest
+
+from ekexplore._serve import stop_process_group
 
 ROOT = Path(__file__).resolve().parents[2]
 ARTIFACTS = ROOT / "test-artifacts"
@@ -63,16 +64,7 @@ def lab(chromium_path, tmp_path_factory):
             pytest.fail("jupyter lab did not start in 90 s")
         yield base, token
     finally:
-        if proc.poll() is None:
-            os.killpg(proc.pid, signal.SIGINT)
-            time.sleep(0.5)
-            if proc.poll() is None:
-                os.killpg(proc.pid, signal.SIGINT)   # JupyterLab asks to confirm once
-            try:
-                proc.wait(timeout=15)
-            except subprocess.TimeoutExpired:
-                os.killpg(proc.pid, signal.SIGKILL)
-                proc.wait(timeout=5)
+        stop_process_group(proc, interrupts=2)   # JupyterLab asks to confirm once
         log.close()
 
 

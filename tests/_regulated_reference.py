@@ -1,4 +1,12 @@
-r"""The double layer across a slit or a tube whose walls regulate their charge.
+r"""Test reference: the double layer across a slit or a tube whose walls
+regulate their charge, solved by a second, differently built Newton solver.
+
+It lives under ``tests/`` on purpose: it shares no code with the package's
+solver (:func:`ekexplore.doublelayer.solve_pb` with
+:class:`ekexplore.surface.RegulatedCharge`), only the grid and the scaled
+variables, so ``tests/test_surface.py`` can compare the two. Here the charged
+plane is one more unknown joined to the wall node by the Stern layer; the
+package instead carries the sites as a nonlinear boundary term.
 
 Prototype of the regulated Poisson–Boltzmann solve, on the log-mapped
 finite-volume grid of :mod:`ekexplore.doublelayer` (same scaled variables:
@@ -28,10 +36,11 @@ from __future__ import annotations
 
 import numpy as np
 from scipy import constants, special
-from scipy.linalg import lapack
+from scipy import linalg
 
-from .doublelayer import ConvergenceError, make_grid, PB_PHI_CLIP
-from .wall import _osmotic_root
+from ekexplore.doublelayer import ConvergenceError, make_grid, PB_PHI_CLIP
+from ekexplore.kernels1d import _refine_guess
+from ekexplore.wall import _osmotic_root
 
 __all__ = ["solve_regulated_pb", "regulated_layer", "regulated_wall", "isolated_scaled",
            "dh_scaled"]
@@ -129,14 +138,9 @@ def solve_regulated_pb(grid, K, z, w, c_s, sites, start=None, tol=1e-6, max_iter
 
     Parameters
     ----------
-    grid : Grid
-        From :func:`ekexplore.doublelayer.make_grid`, batch size B.
-    K : ndarray (B,)
-        kappa R.
-    z : ndarray (k,)
-        Valences.
-    w : ndarray (k, B)
-        Weights c_i / sum z_j^2 c_j.
+    grid, K, z, w
+        Grid (batch size B), kappa R (B,), valences (k,) and weights
+        c_i / sum z_j^2 c_j (k, B), as in :func:`ekexplore.doublelayer.solve_pb`.
     c_s : ndarray (B,)
         Scaled Stern capacitance C R / eps.
     sites : callable
@@ -155,7 +159,7 @@ def solve_regulated_pb(grid, K, z, w, c_s, sites, start=None, tol=1e-6, max_iter
     Notes
     -----
     Unknowns per point: [phi0, phi_0 .. phi_{n-1}] in one block of size n+1;
-    blocks of the batch stacked with zero coupling in one LAPACK ``dptsv``.
+    blocks of the batch stacked with zero coupling in one banded Cholesky solve.
     Newton step capped at 4, backtracking on the convex free energy far from
     the solution, stop after a full step below ``tol`` relative to the largest
     potential. Raises :class:`ConvergenceError` otherwise.
@@ -199,30 +203,17 @@ def solve_regulated_pb(grid, K, z, w, c_s, sites, start=None, tol=1e-6, max_iter
         d = dbase[active].copy()
         d[:, 1:] -= K2V[active] * fp
         d[:, 0] -= m1 * ds
-        e = ebase[active].ravel()[:-1]
-        _, _, delta, info = lapack.dptsv(d.ravel(), e, F.reshape(-1, 1),
-                                         overwrite_d=1, overwrite_b=1)
-        if info != 0:
-            raise ConvergenceError(f"tridiagonal solve failed (LAPACK info {info})")
-        delta = delta.reshape(ua.shape)
-        big = np.max(np.abs(delta), axis=1)
-        scale = np.minimum(1.0, 4.0 / np.maximum(big, 1e-300))
+        delta = _banded_solve(d, ebase[active], F)
+        big = np.abs(delta).max(axis=1)
+        with np.errstate(divide="ignore"):
+            scale = np.minimum(4.0 / big, 1.0)           # Newton step capped at 4
         step = delta * scale[:, None]
         trial = ua + step
         t = np.ones(active.size)
         far = np.flatnonzero(big * scale > 0.25)
         if far.size:
-            sub = active[far]
-            e0 = energy(ua[far], sub)
-            tf = np.ones(far.size)
-            for _ in range(40):
-                e1 = energy(trial[far], sub)
-                bad = e1 > e0 + 1e-12 * np.abs(e0) + 1e-300
-                if not np.any(bad):
-                    break
-                tf = np.where(bad, 0.5 * tf, tf)
-                trial[far] = ua[far] + tf[:, None] * step[far]
-            t[far] = tf
+            t[far] = _line_search(energy, ua[far], step[far], active[far])
+            trial[far] = ua[far] + t[far, None] * step[far]
             np.clip(trial, -lim, lim, out=trial)
         u[active] = trial
         done = ((big * t * scale <= tol * np.max(np.abs(trial), axis=1) + 1e-280)
@@ -235,17 +226,41 @@ def solve_regulated_pb(grid, K, z, w, c_s, sites, start=None, tol=1e-6, max_iter
         f"for {active.size} of {B} points (e.g. point {int(active[0])})")
 
 
+def _banded_solve(d, e, F):
+    """Solve the stacked symmetric positive definite tridiagonal blocks
+    (diagonal ``d``, sub-diagonal ``e`` with a zero block gap, both (b, n+1))
+    with a banded Cholesky factorisation (LAPACK pbtrf/pbtrs), a different
+    route from the package's dptsv."""
+    band = np.zeros((2, d.size))
+    band[0] = d.ravel()
+    band[1] = e.ravel()
+    try:
+        x = linalg.solveh_banded(band, F.ravel(), lower=True, check_finite=False)
+    except linalg.LinAlgError as err:
+        raise ConvergenceError(f"banded Cholesky solve failed: {err}") from err
+    return x.reshape(F.shape)
+
+
+def _line_search(energy, u, step, idx, halvings=40):
+    """Step lengths t in 1, 1/2, 1/4, ... (one per point) that do not raise
+    the convex free energy: each point is halved until E(u + t step) <= E(u)."""
+    t = np.ones(len(u))
+    e0 = energy(u, idx)
+    todo = np.arange(len(u))
+    for _ in range(halvings):
+        worse = energy(u[todo] + t[todo, None] * step[todo], idx[todo]) \
+            > e0[todo] + 1e-12 * np.abs(e0[todo]) + 1e-300
+        todo = todo[worse]
+        if todo.size == 0:
+            break
+        t[todo] *= 0.5
+    return t
+
+
 def _refine(phi_c):
-    """Cubic interpolation of a coarse solution onto the grid with twice the cells."""
-    B, n = phi_c.shape
-    fine = np.empty((B, 2 * n - 1))
-    fine[:, ::2] = phi_c
-    mid = 0.5 * (phi_c[:, 1:] + phi_c[:, :-1])
-    mid[:, 1:-1] = (9.0 * (phi_c[:, 1:-2] + phi_c[:, 2:-1]) - phi_c[:, :-3] - phi_c[:, 3:]) / 16.0
-    mid[:, 0] = (3.0 * phi_c[:, 0] + 6.0 * phi_c[:, 1] - phi_c[:, 2]) / 8.0
-    mid[:, -1] = (3.0 * phi_c[:, -1] + 6.0 * phi_c[:, -2] - phi_c[:, -3]) / 8.0
-    fine[:, 1::2] = mid
-    return fine
+    """Cubic interpolation of a coarse solution onto the grid with twice the
+    cells (the package's start guess: it only starts Newton)."""
+    return _refine_guess(phi_c, (phi_c.shape[0], 2 * phi_c.shape[1] - 1))
 
 
 def _flat_problem(half_size, electrolyte, surface, pH):
