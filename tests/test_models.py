@@ -69,6 +69,12 @@ def test_results_carry_an_upper_bound_of_their_error(salt, shape, condition):
         err = np.max(np.abs(M - Mp) / np.abs(Mp), axis=(-2, -1))
         meaningful = err > 1e-5   # below that the pb reference's own error matters
         assert np.all(est[meaningful] >= err[meaningful]), model
+        # and honest the other way: within 10x of the true error at most points
+        # (measured on 3,600 points: thin 96-99 %, dh 72-100 % per salt, shape and
+        # wall; median ratio 1.5-2.5)
+        ratio = est[meaningful] / err[meaningful]
+        assert np.mean(ratio <= 10.0) >= 0.6, (model, np.quantile(ratio, [0.5, 0.9]))
+        assert np.median(ratio) <= 4.0, (model, np.median(ratio))
 
 
 @pytest.mark.parametrize("tol", [0.1, 0.01, 1e-3])
