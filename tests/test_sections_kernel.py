@@ -91,9 +91,29 @@ def test_random_sections_are_honest_in_every_model():
                 assert AccuracyWarning in kinds, label
             if model == "auto" and float(r.error_estimate) > 0.01:
                 assert AccuracyWarning in kinds, label
-            # every estimate an upper bound of the true error
+            # every estimate an upper bound of the true error. For thin and dh
+            # (model errors) the reference's own error is added. For pb the
+            # reference (levels of 16, 32, 64 cells against 8, 16, 32) differs
+            # from the default result by exactly the reference's estimate, so its
+            # own error (about a fifteenth of that) is left out and the default
+            # estimate must bound the whole difference: it was 1.7-30 times it
+            # (median about 13) when this test was written.
             true = np.max(np.abs(r.matrix - ref.matrix) / np.abs(ref.matrix))
-            assert true <= float(r.error_estimate) + float(ref.error_estimate), (
-                label, true, float(r.error_estimate))
+            allowed = float(r.error_estimate) + (
+                0.0 if str(r.model) == "pb" else float(ref.error_estimate))
+            assert true <= allowed, (label, true, float(r.error_estimate))
             checked += 1
     assert checked == 8 * len(SHAPES)
+
+
+def test_a_model_error_is_not_reported_as_a_missed_mesh_accuracy():
+    # A dh point whose model estimate (about 1 %) exceeds the mesh accuracy
+    # (1e-3) reports that estimate, but its mesh met the accuracy: no
+    # AccuracyWarning (which says the finest resolution or the time budget was
+    # reached), and no ModelRangeWarning either (below the 10 % of the table).
+    e = ek.Electrolyte.salt("KCl", 1.0)
+    lam = float(e.debye_length)
+    r, kinds = _solve(ek.Rectangle(width=6 * lam, depth=3 * lam), e,
+                      ek.Wall(zeta=-0.4 * VT25), "dh")
+    assert 1e-3 < float(r.error_estimate) < 0.1
+    assert AccuracyWarning not in kinds and ModelRangeWarning not in kinds
