@@ -202,8 +202,12 @@ def _pb(b, m, accuracy=1e-6):
     over = np.abs(zmax * phi_est) > PB_PHI_MAX
     if np.any(over):
         k = np.flatnonzero(over)[0]
+        # a charge-regulating wall's value is rows (pH first), not one charge
+        what = (f"the surface's sites at pH {float(b.value[0, k]):g} need"
+                if getattr(b.wall, "rows", False) else
+                f"charge_density = {float(b.value[k]):g} C/m^2 needs")
         raise ValueError(
-            f"charge_density = {b.value[k]:g} C/m^2 needs a wall potential of about "
+            f"{what} a wall potential of about "
             f"{phi_est[k] * b.VT[k]:.3g} V, beyond the solver range |z e zeta/kT| <= "
             f"{PB_PHI_MAX:g}; lower the charge, widen the channel or raise the concentration")
     x0 = _inner_scale(b, phi_est)

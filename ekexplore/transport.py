@@ -215,7 +215,9 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None,
         if np.any(over):
             bad = float(np.max(np.abs(out["wall_potential"])[over]))
             name = str(_first(over, np.broadcast_to(out["model"], over.shape)))
-            raise ValueError(f"charge_density gives a wall potential of {bad:g} V under "
+            what = ("the surface's sites give" if cond.wall_condition == "regulated"
+                    else "charge_density gives")
+            raise ValueError(f"{what} a wall potential of {bad:g} V under "
                              f"model={name!r}, beyond the range |z e zeta/kT| <= {PHI_MAX:g} "
                              "of every model; lower the charge or raise the concentration")
     if model != "auto":

@@ -157,7 +157,7 @@ def test_explorer_slider_changes_matrix_and_plot(server, browser, artifacts, cap
         _assert_clean(p)
         # a bad input shows the message and no traceback
         stern = p.page.locator(".widget-text", has=p.page.locator(
-            ".widget-label", has_text="Stern")).locator("input")
+            ".widget-label", has_text=re.compile(r"^Stern cond\. \[nS\]$"))).locator("input")
         stern.fill("-3")
         stern.press("Enter")
         p.page.wait_for_selector(".ekx-error")
@@ -179,6 +179,31 @@ def test_explorer_slider_changes_matrix_and_plot(server, browser, artifacts, cap
             "() => document.querySelector('.ekx-status').textContent.includes('salt conc. 0 mM')")
         p.page.wait_for_timeout(500)
         assert box.input_value() == good
+        _assert_clean(p)
+    finally:
+        p.close()
+
+
+def test_explorer_material_wall(server, browser, artifacts):
+    """The wall panel's material: the wall line shows ζ, σ and the charged
+    sites; a pH typed out of range is refused in words, the last line kept."""
+    p = Page(browser, server["base"] + "/voila/render/explorer.ipynb" + server["q"])
+    try:
+        p.page.get_by_role("button", name="material", exact=True).click()
+        p.page.wait_for_function(
+            "() => [...document.querySelectorAll('.ekx-wall')]"
+            ".some(e => e.textContent.includes('silica / glass at pH 7.00'))")
+        line = p.text(".ekx-wall")
+        assert re.search(r"ζ = -\d+(\.\d+)? mV", line), line
+        assert "mC/m²" in line and "charged sites" in line and "estimated error" in line
+        box = p.entry("pH (no buffer)")
+        box.fill("15")
+        box.press("Enter")
+        p.page.wait_for_function(
+            "() => [...document.querySelectorAll('.ekx-status')]"
+            ".some(e => e.textContent.includes('pH 15: enter a value from 0 to 14'))")
+        assert p.text(".ekx-wall") == line
+        p.page.screenshot(path=str(artifacts / "explorer-material-wall.png"))
         _assert_clean(p)
     finally:
         p.close()
