@@ -55,7 +55,7 @@ def curves(prof):
     """Profile curves of a 1D ``Profiles`` or, for a 2D section, along the cut
     from the wall point nearest the centre to the centre."""
     f = lambda a: np.asarray(a, dtype=float).reshape(-1)  # noqa: E731
-    if hasattr(prof, "wall_normal"):
+    if prof.mesh is not None:     # a 2D section: the cut from the wall to the centre
         cut = prof.wall_normal()
         conc = np.stack([f(cut[f"c_{n}"]) for n in prof.ion_names])
         return Curves(x=f(cut["distance"]), from_wall=True,
@@ -176,7 +176,7 @@ def field_images(prof, n=160):
     the whole cross-section is filled; pixels wholly outside stay NaN
     (transparent).
     """
-    if not hasattr(prof, "on_grid"):
+    if prof.mesh is None:          # a slit or tube: no image
         return None
     from scipy.spatial import cKDTree
     x, y = np.asarray(prof.x, float), np.asarray(prof.y, float)
