@@ -192,7 +192,8 @@ def _wall_distance(P, wall_edges):
 
 
 def section_profiles_factory(channel, cond, models, accuracy):
-    """The ``profiles`` callable of a section kernel result."""
+    """The ``profiles`` callable of a section kernel result: one
+    :class:`~ekexplore.Profiles` per point (an object array for a batch)."""
 
     def make(pressure_gradient=1.0, field=1.0):
         b = cond.flat()
@@ -200,64 +201,73 @@ def section_profiles_factory(channel, cond, models, accuracy):
         mods = np.broadcast_to(np.asarray(models), cond.shape).reshape(-1)
         n = 4 * resolution(accuracy)       # twice the kernel's finest level: smooth images
         result = np.empty(b.B, dtype=object)
-        z = b.z
         for k in range(b.B):
             kind, dims, L = geo["spec"][k]
             bk = b.take(np.array([k])).with_length(np.array([L]))
-            eps, eta, VT, kappa = bk.eps[0], bk.eta[0], bk.VT[0], bk.kappa[0]
-            c, w, lam_i = bk.c[:, 0], bk.charge_weights[:, 0], bk.molar_conductivity[:, 0]
-            lam = 1.0 / (kappa * L)
-            name = str(mods[k])
-            dist = None
-            value = bk.scaled_value if bk.wall.rows else float(bk.scaled_value[0])
-            if name == "thin":
-                mesh = build_mesh(kind, dims, n, lam)
-                u = flow_solution(mesh)["u"]
-                if bk.wall.nonlinear:
-                    phi_w = float(bk.wall.isolated_potential(z, bk.weights, bk.K,
-                                                             bk.scaled_value)[0])
-                else:
-                    phi_w = value if bk.wall.dirichlet else float(isolated_wall_potential(
-                        z, bk.weights, bk.K, bk.scaled_value)[0])
-                dist = _wall_distance(mesh.points, mesh.wall_edges)
-                zc = np.max(np.abs(z))
-                phi = gouy_chapman_potential(zc, phi_w, np.exp(-dist / lam))
-                ueo_s = np.full_like(phi, -phi_w)
-                # the charge of the layer moves with the layer's own velocity
-                # (the slip is reached across it): what the coefficient counts
-                layer_s = phi - phi_w
-            else:
-                gouy = gouy_scale(lam, z, value) if (name == "pb" and bk.wall.dirichlet) else None
-                mesh = build_mesh(kind, dims, n, lam, gouy)
-                r = scaled_solution(mesh, (kappa * L) ** 2, w, z, bk.wall.name, value, name)
-                phi, u = r["phi"], r["u"]
-                ueo_s = layer_s = r["d"]
-            zc = z[:, None]
-            if name == "dh":
-                conc = c[:, None] * (1.0 - zc * phi[None] + 0.5 * zc**2 * phi[None] ** 2)
-                rho = -eps * kappa**2 * VT * phi
-            else:
-                conc = c[:, None] * np.exp(-zc * phi[None])
-                rho = F * (z @ conc)
-            up = pressure_gradient * L**2 / eta * u
-            ueo = field * eps * VT / eta * ueo_s
-            mig = field * (lam_i @ conc)
-            conv = rho * (up + field * eps * VT / eta * layer_s)
-            P = mesh.points * L
-            centre = (mesh.m @ mesh.points) / mesh.area * L
-            if kind == "polygon":
-                centre = np.array(dims[:2]) * L
-            grid = SectionMesh(P[:, 0], P[:, 1], mesh.triangles, mesh.wall, mesh.wall_edges,
-                               centre)
-            result[k] = Profiles(
-                coordinates={"x": P[:, 0], "y": P[:, 1]}, potential=phi * VT,
-                concentrations=conc, ion_names=cond.ion_names, charge_density=rho,
-                velocity_pressure=up, velocity_electroosmotic=ueo, current_migration=mig,
-                current_convective=conv, debye_length=lam * L, model=name,
-                pressure_gradient=pressure_gradient, field=field, mesh=grid,
-                wall_distance=None if dist is None else dist * L)
+            mesh, scaled = _scaled_fields(bk, str(mods[k]), kind, dims, n)
+            result[k] = _point_profiles(bk, str(mods[k]), mesh, scaled, kind, dims,
+                                        pressure_gradient, field, cond.ion_names)
         if cond.shape == ():
             return result[0]
         return result.reshape(cond.shape)
 
     return make
+
+
+def _scaled_fields(bk, name, kind, dims, n):
+    """Mesh and scaled fields of one point (``bk``, length scaled by L):
+    potential phi, flow u, electro-osmotic velocity and the velocity that
+    carries the layer's charge (over eps E kT/(e eta)), wall distance (thin)."""
+    z = bk.z
+    lam = 1.0 / bk.K[0]
+    value = bk.scaled_value if bk.wall.rows else float(bk.scaled_value[0])
+    if name != "thin":
+        gouy = gouy_scale(lam, z, value) if (name == "pb" and bk.wall.dirichlet) else None
+        mesh = build_mesh(kind, dims, n, lam, gouy)
+        r = scaled_solution(mesh, bk.K[0] ** 2, bk.charge_weights[:, 0], z, bk.wall.name,
+                            value, name)
+        return mesh, {"phi": r["phi"], "u": r["u"], "ueo": r["d"], "layer": r["d"],
+                      "dist": None}
+    mesh = build_mesh(kind, dims, n, lam)
+    if bk.wall.nonlinear:
+        phi_w = float(bk.wall.isolated_potential(z, bk.weights, bk.K, bk.scaled_value)[0])
+    else:
+        phi_w = value if bk.wall.dirichlet else float(isolated_wall_potential(
+            z, bk.weights, bk.K, bk.scaled_value)[0])
+    dist = _wall_distance(mesh.points, mesh.wall_edges)
+    phi = gouy_chapman_potential(np.max(np.abs(z)), phi_w, np.exp(-dist / lam))
+    # the slip velocity everywhere; the charge of the layer moves with the
+    # layer's own velocity (the slip is reached across it): what the
+    # coefficient counts
+    return mesh, {"phi": phi, "u": flow_solution(mesh)["u"], "ueo": np.full_like(phi, -phi_w),
+                  "layer": phi - phi_w, "dist": dist}
+
+
+def _point_profiles(bk, name, mesh, scaled, kind, dims, pressure_gradient, field, ion_names):
+    """SI :class:`~ekexplore.Profiles` of one point from its scaled fields."""
+    L = bk.length[0]
+    eps, eta, VT, kappa = bk.eps[0], bk.eta[0], bk.VT[0], bk.kappa[0]
+    c, z, phi = bk.c[:, 0], bk.z, scaled["phi"]
+    zc = z[:, None]
+    if name == "dh":
+        conc = c[:, None] * (1.0 - zc * phi[None] + 0.5 * zc**2 * phi[None] ** 2)
+        rho = -eps * kappa**2 * VT * phi
+    else:
+        conc = c[:, None] * np.exp(-zc * phi[None])
+        rho = F * (z @ conc)
+    up = pressure_gradient * L**2 / eta * scaled["u"]
+    P = mesh.points * L
+    centre = (mesh.m @ mesh.points) / mesh.area * L
+    if kind == "polygon":
+        centre = np.array(dims[:2]) * L
+    grid = SectionMesh(P[:, 0], P[:, 1], mesh.triangles, mesh.wall, mesh.wall_edges, centre)
+    dist = scaled["dist"]
+    return Profiles(
+        coordinates={"x": P[:, 0], "y": P[:, 1]}, potential=phi * VT, concentrations=conc,
+        ion_names=ion_names, charge_density=rho, velocity_pressure=up,
+        velocity_electroosmotic=field * eps * VT / eta * scaled["ueo"],
+        current_migration=field * (bk.molar_conductivity[:, 0] @ conc),
+        current_convective=rho * (up + field * eps * VT / eta * scaled["layer"]),
+        debye_length=(1.0 / bk.K[0]) * L, model=name,
+        pressure_gradient=pressure_gradient,
+        field=field, mesh=grid, wall_distance=None if dist is None else dist * L)
