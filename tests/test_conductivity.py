@@ -20,9 +20,32 @@ KCL_CRC = [(0.0005, 147.74), (0.001, 146.88), (0.005, 143.48), (0.01, 141.20),
 # NaCl, same table (from memory).
 NACL_CRC = [(0.0005, 124.44), (0.001, 123.68), (0.005, 120.59), (0.01, 118.45),
             (0.02, 115.70), (0.05, 111.01), (0.1, 106.69)]
-# 1/2 CaCl2, same table, per equivalent against normality [eq/L] (from memory).
+# 1/2 CaCl2, same table, per equivalent against normality [eq/L] (from memory;
+# the table's source is Shedlovsky & Brown 1934, "The electrolytic conductivity
+# of alkaline earth chlorides in water at 25 degC", J. Am. Chem. Soc. 56, 1066;
+# citation also from memory). At 0.5 meq/L the recalled value is within 0.1 %
+# of the limiting law built on the published 25 degC CRC ion conductivities.
 CACL2_CRC = [(0.0005, 131.84), (0.001, 130.30), (0.005, 124.19), (0.01, 120.30),
              (0.02, 115.59), (0.05, 108.42), (0.1, 102.41)]
+
+# KCl primary standards against temperature [uS/cm] at 0.01, 0.1 and 1.0 mol/kg
+# (CO2-saturated water's conductivity already subtracted): CRC Handbook of
+# Chemistry and Physics, table "Standard KCl solutions for calibrating
+# conductivity cells", built on Wu, Koch & Pratt 1991, "Proposed new
+# electrolytic conductivity primary standards for KCl solutions", J. Res. NIST
+# 96, 191, doi:10.6028/jres.096.008 (0.01 and 0.1 mol/kg); Wu, Koch, Feng,
+# Holland, Juhasz, Arvay & Tomek 1994, J. Res. NIST 99, 241 (1.0 mol/kg); Pratt, Koch,
+# Wu & Berezansky 2001, "Molality-based primary standards of electrolytic
+# conductivity (IUPAC Technical Report)", Pure Appl. Chem. 73, 1783,
+# doi:10.1351/pac200173111783. Uncertainty 0.03-0.04 %. Values read from the
+# published table (not from memory).
+KCL_STANDARDS_T = [
+    (0, 772.92, 7116.85, 63488), (5, 890.96, 8183.70, 72030),
+    (10, 1013.95, 9291.72, 80844), (15, 1141.45, 10437.1, 89900),
+    (18, 1219.93, 11140.6, None), (20, 1273.03, 11615.9, 99170),
+    (25, 1408.23, 12824.6, 108620), (30, 1546.63, 14059.2, 118240),
+    (35, 1687.79, 15316.0, 127970), (40, 1831.27, 16591.0, 137810),
+    (45, 1976.62, 17880.6, 147720), (50, 2123.43, 19180.9, 157670)]
 
 
 def _molarity_from_molality(m, v_phi=27e-6, T=T25):
@@ -44,13 +67,13 @@ def test_kcl_within_1_percent_to_100mM(c, lam):
 
 
 @pytest.mark.parametrize("m, kappa", [
-    (0.01, 1408.23e-4),     # Wu, Koch & Pratt 1991, "Proposed new electrolytic
-    (0.1, 12824.6e-4),      # conductivity primary standards for KCl solutions",
-    (1.0, 108620e-4),       # J. Res. NIST 96, 191, doi:10.6028/jres.096.008 (from memory)
+    (0.01, 1408.23e-4),     # 25 degC row of KCL_STANDARDS_T (Wu, Koch & Pratt 1991;
+    (0.1, 12824.6e-4),      # Wu et al. 1994; Pratt et al. 2001: sources above)
+    (1.0, 108620e-4),
 ])
 def test_kcl_primary_standards(m, kappa):
     e = Electrolyte.salt("KCl", _molarity_from_molality(m))
-    tol = 0.01 if m <= 0.1 else 0.03    # the issue's targets; measured -1.7 % at 1 mol/kg
+    tol = 0.01 if m <= 0.1 else 0.03    # the issue's targets; measured -2.4 % at 1 mol/kg
     assert_allclose(e.conductivity(), kappa, rtol=tol)
 
 
@@ -72,6 +95,35 @@ def test_kcl_0p1mM_follows_the_limiting_law():
     assert_allclose(e.conductivity(), dho, rtol=5e-4)
 
 
+@pytest.mark.parametrize("salt", ["CaCl2", "Na2SO4", "MgCl2"])
+def test_asymmetric_salt_follows_the_onsager_limiting_law(salt):
+    # The asymmetric terms (z+ != |z-|) in their limit: Onsager's 1927 limiting
+    # law for a binary z1:z2 salt (Robinson & Stokes, Electrolyte Solutions,
+    # ch. 7; Onsager 1927, Phys. Z. 28, 277), written here: each ion loses
+    # z_i^2 F e kappa / (6 pi eta) of molar conductivity by electrophoresis and
+    # the fraction |z1 z2| l_B kappa q / (3 (1 + sqrt q)) by relaxation, with
+    # q = |z1 z2| / (|z1| + |z2|) (L1 + L2) / (|z2| L1 + |z1| L2), L the
+    # equivalent conductivities. At 10 uM (ionic strength 30 uM) the MSA
+    # agrees to 8e-5 (measured; its size terms are of higher order in kappa)
+    # while the correction itself is 0.6 %; a wrong q (the 1:1 value 1/2)
+    # would be off by 3.7e-4 (CaCl2) and 4.1e-4 (MgCl2).
+    T = T25
+    e = Electrolyte.salt(salt, 0.01)
+    z = np.abs(np.asarray(e.valences, dtype=float))
+    c = np.asarray(e.concentrations, dtype=float)
+    lam_molar = np.array([i.molar_conductivity_at(T) for i in e.ions])
+    L = lam_molar / z                                  # per equivalent
+    eps = water_relative_permittivity(T) * constants.epsilon_0
+    kappa = np.sqrt(constants.N_A * constants.e**2 * np.sum(z**2 * c) / (eps * constants.k * T))
+    lB = constants.e**2 / (4 * np.pi * eps * constants.k * T)
+    q = z[0] * z[1] / (z[0] + z[1]) * (L[0] + L[1]) / (z[1] * L[0] + z[0] * L[1])
+    relax = z[0] * z[1] * lB * kappa * q / (3 * (1 + np.sqrt(q)))
+    ephor = z**2 * F * constants.e * kappa / (6 * np.pi * water_viscosity(T))
+    onsager = np.sum(c * (lam_molar * (1 - relax) - ephor))
+    assert relax > 1e-3 and np.sum(c * ephor) > 2e-3 * np.sum(c * lam_molar)
+    assert_allclose(e.conductivity(), onsager, rtol=2e-4)
+
+
 @pytest.mark.parametrize("c, lam", NACL_CRC)
 def test_nacl_within_2_percent_to_100mM(c, lam):
     # Source: CRC Handbook equivalent conductivity table (NACL_CRC above);
@@ -80,39 +132,47 @@ def test_nacl_within_2_percent_to_100mM(c, lam):
     assert_allclose(float(e.conductivity()) / (c * 1000.0) * 1e4, lam, rtol=0.02)
 
 
+@pytest.mark.parametrize("c, lam", [(0.001, 421.36), (0.01, 412.00), (0.1, 391.13)])
+def test_hcl_proton_hopping_size(c, lam):
+    # HCl molar conductivity at 25 degC [S cm^2/mol] against molarity [mol/L],
+    # CRC Handbook equivalent conductivity table (from memory). H+ keeps the
+    # H3O+ radius (Marcus 1988): measured within 0.2 % to 0.1 mol/L; with
+    # Kielland's activity size of H+ (9 A) it would be +2.4 % at 0.1 mol/L.
+    e = Electrolyte.salt("HCl", c * 1000.0)
+    assert_allclose(float(e.conductivity()) / (c * 1000.0) * 1e4, lam, rtol=0.01)
+
+
 @pytest.mark.parametrize("n, lam", CACL2_CRC)
-def test_cacl2(n, lam):
-    # Source: CRC Handbook equivalent conductivity table, 1/2 CaCl2 (CACL2_CRC).
-    # Measured: within 0.3 % to 0.02 eq/L (10 mM CaCl2), -1.5 % at 0.05 eq/L
-    # (25 mM), -3.4 % at 0.1 eq/L (50 mM CaCl2, ionic strength 150 mM): 2 %
-    # holds to 25 mM CaCl2, 3.5 % at 50 mM.
+def test_cacl2_within_2_percent_to_50mM(n, lam):
+    # Source: CACL2_CRC above (CRC Handbook / Shedlovsky & Brown 1934, from memory).
+    # Measured with Kielland's hydrated ion sizes: +0.1 % at 0.5 meq/L rising to
+    # +1.8 % at 0.1 eq/L (50 mM CaCl2, ionic strength 150 mM); with Pauling's
+    # crystal radii it was -3.4 % there. The 2 % target of a 2:1 salt to 100 mM
+    # of ionic strength and beyond; the recalled values are trusted to about
+    # 0.1 %, well inside the 0.2 % left to the target.
     e = Electrolyte.salt("CaCl2", n / 2 * 1000.0)
     per_eq = float(e.conductivity()) / (n * 1000.0) * 1e4
-    assert_allclose(per_eq, lam, rtol=0.02 if n <= 0.05 else 0.035)
+    assert_allclose(per_eq, lam, rtol=0.02)
 
 
-# 0.01 mol/L KCl against temperature [uS/cm] (conductivity-meter calibration
-# tables; common practice, from memory), and the 0.01 demal standard of Jones &
-# Bradshaw 1933, J. Am. Chem. Soc. 55, 1780, doi:10.1021/ja01331a065 (from memory).
-KCL_10MM_T = [(0, 776.0), (5, 896.0), (10, 1020.0), (15, 1147.0), (18, 1225.0),
-              (20, 1278.0), (25, 1413.0), (30, 1552.0)]
-KCL_100MM_T = [(0, 7.15), (5, 8.22), (10, 9.33), (15, 10.48), (18, 11.19), (20, 11.67),
-               (25, 12.88)]   # 0.1 mol/L KCl [mS/cm], same tables (from memory)
-
-
-@pytest.mark.parametrize("t, kappa", KCL_10MM_T)
-def test_kcl_10mM_against_temperature(t, kappa):
-    # Measured: within 0.5 % from 0 to 30 degC; the Walden rule ("ideal") is
-    # -4 % at 0 degC and +8 % at 30 degC.
-    e = Electrolyte.salt("KCl", 10.0, temperature=t + constants.zero_Celsius)
-    assert_allclose(float(e.conductivity()) * 1e4, kappa, rtol=0.01)
-
-
-@pytest.mark.parametrize("t, kappa", KCL_100MM_T)
-def test_kcl_100mM_against_temperature(t, kappa):
-    # Measured: within 0.4 % from 0 to 25 degC.
-    e = Electrolyte.salt("KCl", 100.0, temperature=t + constants.zero_Celsius)
-    assert_allclose(float(e.conductivity()) * 10, kappa, rtol=0.01)
+@pytest.mark.parametrize("t, k01, k1, k10", KCL_STANDARDS_T)
+def test_kcl_standards_0_to_50_degC(t, k01, k1, k10):
+    # Source: KCL_STANDARDS_T (published table, 0-50 degC). Measured: 0.01 mol/kg
+    # within 0.51 % and 0.1 mol/kg within 0.37 % at every temperature from 0 to
+    # 50 degC (largest at 18-20 degC); the Walden rule ("ideal") is -3.8 % at
+    # 0 degC and +13.5 % at 50 degC. 1.0 mol/kg: -2.4 % at 25 degC (issue
+    # target 3 %), -6.1 % at 0 degC, -0.6 % at 50 degC: the concentration
+    # correction is weakest where water is coldest, asserted to 6.5 %.
+    T = t + constants.zero_Celsius
+    for m, kappa, tol in ((0.01, k01, 0.01), (0.1, k1, 0.01), (1.0, k10, 0.065)):
+        if kappa is None:
+            continue
+        e = Electrolyte.salt("KCl", _molarity_from_molality(m, T=T), temperature=T)
+        assert_allclose(float(e.conductivity()) * 1e4, kappa, rtol=tol, err_msg=f"{m} mol/kg")
+    e = Electrolyte.salt("KCl", _molarity_from_molality(0.01, T=T), temperature=T,
+                         mobility="ideal")
+    walden_error = abs(float(e.conductivity()) * 1e4 / k01 - 1)
+    assert walden_error > 0.01 or 8 <= t <= 12   # Walden crosses the standard near 10 degC
 
 
 def test_jones_bradshaw_demal_standard():
