@@ -67,7 +67,8 @@ References
    value 59.47 checked against the published table).
 .. [4] Kielland, J. (1937). Individual activity coefficients of ions in
    aqueous solutions. J. Am. Chem. Soc. 59, 1675. doi:10.1021/ja01288a032
-   (ion-size parameters, the MSA diameters here; values from memory).
+   (ion-size parameters, the MSA diameters here; read from the reproduction
+   of the table in Freeze & Cherry 1979, Groundwater, appendix IV).
 
 Measured against published standards (``tests/test_conductivity.py``): KCl at
 0.01 and 0.1 mol/kg within 0.51 % from 0 to 50 °C (the primary standards of
@@ -128,8 +129,12 @@ LAMBDA_T_TABLE = {
 # Kielland 1937, "Individual activity coefficients of ions in aqueous
 # solutions", J. Am. Chem. Soc. 59, 1675, doi:10.1021/ja01288a032, table of
 # effective diameters of hydrated ions in the Debye-Hueckel distance of closest
-# approach (values from memory, as reproduced in the handbooks; where Kielland
-# gives a range, 4-4.5 A, its midpoint). These are sizes of the ions as they
+# approach, as reproduced in Freeze & Cherry 1979, "Groundwater" (Prentice-Hall),
+# appendix IV, "Debye-Hueckel equation and Kielland table for ion-activity
+# coefficients" (read there: K+, Cl-, NO3- 3; OH- 3.5; SO4^2-, HPO4^2-, PO4^3-
+# 4; Na+, HCO3-, H2PO4-, acetate 4-4.5; CO3^2- 4.5; Li+, Ca2+ 6; Mg2+ 8;
+# H+ 9 A; "rounded values for the effective size in water solution"). Where
+# the table gives the range 4-4.5 A, its midpoint. These are sizes of the ions as they
 # move in water, with their hydration shells, which is what the primitive model
 # of the MSA needs: Pauling's crystal radii, used before, put a small strongly
 # hydrated cation (Ca2+, Mg2+) in contact with its counter-ion and made CaCl2
@@ -144,7 +149,7 @@ LAMBDA_T_TABLE = {
 ION_RADIUS = {
     "H+": 1.00e-10, "Li+": 3.0e-10, "Na+": 2.125e-10, "K+": 1.5e-10, "Ca2+": 3.0e-10,
     "Mg2+": 4.0e-10, "OH-": 1.33e-10, "Cl-": 1.5e-10, "NO3-": 1.5e-10,
-    "SO4^2-": 2.0e-10, "HCO3-": 2.125e-10, "CO3^2-": 2.25e-10, "CH3COO-": 2.25e-10,
+    "SO4^2-": 2.0e-10, "HCO3-": 2.125e-10, "CO3^2-": 2.25e-10, "CH3COO-": 2.125e-10,
     "H2PO4-": 2.125e-10, "HPO4^2-": 2.0e-10, "PO4^3-": 2.0e-10,
 }
 
