@@ -827,3 +827,15 @@ def test_regulated_wall_takes_the_electrolytes_pH():
     if getattr(plain, "pH", None) is None:
         with pytest.raises(ValueError, match=r"pH.*\[0, 14\]"):
             ek.solve(ek.Slit(50e-9), plain, wall)
+
+
+def test_regulated_wall_beyond_the_solver_range_is_refused_naming_the_sites():
+    # strongly acidic dense sites in 0.1 uM of a 3:3 salt: the sites need a
+    # wall potential far beyond |z e zeta/kT| <= 30 (0.26 V for z = 3); every
+    # model refuses it with a ValueError that names the surface, not a charge
+    e = ek.Electrolyte.symmetric(3, 1e-4)
+    surf = Surface(Site(-5.0, 1e21), 1000.0)
+    for model in ("thin", "dh", "pb", "auto"):
+        with pytest.raises(ValueError, match=r"the surface's sites .*wall potential") as info:
+            ek.solve(ek.Slit(100e-6), e, ek.Wall(surface=surf, pH=7.0), model=model)
+        assert "charge_density" not in str(info.value)

@@ -13,7 +13,7 @@ import traitlets
 
 import ekexplore as ek
 
-from .state import CUSTOM, SIZE_RANGE, State, listed_shapes, size_parameter
+from .state import CUSTOM, MATERIALS, SIZE_RANGE, State, listed_shapes, size_parameter
 
 __all__ = ["load_bokeh", "new_figure", "bokeh_widget", "PALETTE", "Status", "SetupControls",
            "download_link", "section_title", "SAFETY_NOTE", "CodeExport", "Worker", "ViewUpdates", "error_text"]
@@ -46,6 +46,8 @@ CSS = """
 .ekx-warn {font-size: 13px; padding: 4px 10px; background: #fbe9e4; color: #7a1f0c;
             border-left: 4px solid #D55E00; margin: 4px 0;}
 .ekx-copy {font-size: 12.5px; padding: 2px 10px; margin: 2px 0; cursor: pointer;}
+.ekx-wall {font-size: 13px; padding: 3px 10px; margin: 2px 0; border-left: 4px solid #009E73;
+            background: #eef6f2;}
 .ekx-head {font-size: 13px; font-weight: 600; margin: 2px 0 0 0; color: #1b2a38;}
 </style>
 """
@@ -313,6 +315,10 @@ LIMITS = {
     "channels": (1, 1_000_000, False),
     "buffer_conc": (1e-3, 5e3, False),                            # as the salt, in mM
     "pH": (0.0, 14.0, False),
+    "salt_pH": (ek.surface.PH_RANGE[0], ek.surface.PH_RANGE[1], False),
+    "stern_capacitance": (0.0, ek.surface.STERN_CAPACITANCE_MAX, True),      # F/m^2
+    "site_pK": (ek.surface.PK_RANGE[0], ek.surface.PK_RANGE[1], False),
+    "site_density": (0.0, ek.surface.SITE_DENSITY_MAX * 1e-18, True),        # per nm^2
     "max_pressure": (0.0, 1e5, True),
     "max_voltage": (0.0, 1e5, True),
 }
@@ -375,8 +381,36 @@ class SetupControls:
         self.electrolyte_info = w.HTML(layout=w.Layout(width="390px"))
         # wall
         self.wall_mode = w.ToggleButtons(options=[("ζ potential", "zeta"),
-                                                  ("surface charge", "charge")],
-                                         style={"button_width": "115px"})
+                                                  ("surface charge", "charge"),
+                                                  ("material", "material")],
+                                         tooltips=["you give ζ (constant potential)",
+                                                   "you give σ (constant charge)",
+                                                   "the charge follows the pH and the salt "
+                                                   "(surface sites and a Stern layer)"],
+                                         style={"button_width": "112px"})
+        self.salt_pH = honest(HonestFloatSlider(min=0.0, max=14.0, step=0.05,
+                                                readout_format=".2f",
+                                                description="pH (no buffer)", **_slider()),
+                              "salt_pH", "pH", "")
+        self.salt_pH.tooltip = ("pH the wall's sites see: the salt has no buffer and is not "
+                                "in air, so you set it (default 7)")
+        self.material = w.Dropdown(options=[(v[0], k) for k, v in MATERIALS.items()],
+                                   description="material", style={"description_width": "150px"},
+                                   layout=w.Layout(width="390px"))
+        self.material_info = w.HTML(layout=w.Layout(width="390px"))
+        self.stern_cap = honest(HonestFloatText(description="Stern cap. [F/m²]",
+                                                **_text()),
+                                "stern_capacitance", "Stern capacitance", "F/m²")
+        self.stern_cap.tooltip = "capacitance of the Stern layer between the sites and ζ"
+        self.site_amphoteric = w.Checkbox(description="two pK (amphoteric: MOH₂⁺/MOH/MO⁻)",
+                                          indent=False)
+        self.site_pK = honest(HonestFloatText(description="pK (first proton)", **_text()),
+                              "site_pK", "pK", "")
+        self.site_pK2 = honest(HonestFloatText(description="second pK", **_text()),
+                               "site_pK", "second pK", "")
+        self.site_density = honest(HonestFloatText(description="sites [1/nm²]", **_text()),
+                                   "site_density", "site density", "1/nm²")
+        self.site_density.tooltip = "ionisable sites per nm² of wall"
         self.zeta = honest(HonestFloatSlider(min=-200.0, max=200.0, step=1.0,
                                              readout_format=".0f", description="ζ [mV]",
                                              **_slider()), "zeta", "ζ", "mV")
@@ -433,6 +467,13 @@ class SetupControls:
         L(_link(self.buffer_pH, s, "pH"))
         L(_link(self.in_air, s, "in_air"))
         L(_link(self.wall_mode, s, "wall_mode"))
+        L(_link(self.salt_pH, s, "salt_pH"))
+        L(_link(self.material, s, "material"))
+        L(_link(self.stern_cap, s, "stern_capacitance"))
+        L(_link(self.site_amphoteric, s, "site_amphoteric"))
+        L(_link(self.site_pK, s, "site_pK"))
+        L(_link(self.site_pK2, s, "site_pK2"))
+        L(_link(self.site_density, s, "site_density", lambda v: v * 1e18, lambda v: v * 1e-18))
         L(_link(self.zeta, s, "zeta", lambda v: v * 1e-3, lambda v: v * 1e3))
         L(_link(self.charge, s, "charge_density", lambda v: v * 1e-3, lambda v: v * 1e3))
         L(_link(self.stern, s, "stern_conductance", lambda v: v * 1e-9, lambda v: v * 1e9))
@@ -449,9 +490,13 @@ class SetupControls:
         self.size.observe(self._size_from_widget, "value")
         s.observe(self._params_from_state, "shape_params")
         s.observe(self._shape_from_state, "shape")
-        s.observe(self._visibility, ["salt", "wall_mode", "shape", "buffer"])
+        s.observe(self._visibility, ["salt", "wall_mode", "shape", "buffer", "in_air",
+                                     "material", "site_amphoteric"])
         s.observe(self._electrolyte_info, ["salt", "valence", "concentration", "temperature",
-                                           "buffer", "buffer_concentration", "pH", "in_air"])
+                                           "buffer", "buffer_concentration", "pH", "in_air",
+                                           "wall_mode", "salt_pH", "material",
+                                           "stern_capacitance", "site_amphoteric", "site_pK",
+                                           "site_pK2", "site_density"])
         self._electrolyte_info()
         self._busy_sync = False
         self._build_extra()
@@ -460,7 +505,9 @@ class SetupControls:
 
         rows = [section_title("Electrolyte"), self.salt, self.valence, self.concentration,
                 self.temperature, self.buffer, self.buffer_conc, self.buffer_pH, self.in_air,
-                self.electrolyte_info, section_title("Wall"), self.wall_mode, self.zeta, self.charge,
+                self.salt_pH, self.electrolyte_info, section_title("Wall"), self.wall_mode,
+                self.zeta, self.charge, self.material, self.stern_cap, self.site_amphoteric,
+                self.site_pK, self.site_pK2, self.site_density, self.material_info,
                 self.stern, section_title("Channel"), self.shape, self.size, self.width,
                 self.extra_box]
         if include_model:
@@ -593,20 +640,35 @@ class SetupControls:
             self.state.set_param(name, change["new"] * scale)
 
     def _electrolyte_info(self, change=None):
-        """pH, ionic strength, conductivity and Debye length of the electrolyte."""
+        """pH, ionic strength, conductivity and Debye length of the electrolyte,
+        and what the chosen wall material is."""
         try:
             text = html.escape(self.state.electrolyte_summary())
         except ValueError as exc:
             text = "⚠ " + html.escape(error_text(exc, self.state))
         self.electrolyte_info.value = f"<small>{text}</small>"
+        if self.state.wall_mode == "material":
+            try:
+                text = html.escape(self.state.material_summary())
+            except ValueError as exc:
+                text = "⚠ " + html.escape(error_text(exc, self.state))
+            self.material_info.value = f"<div class='ekx-small'>{text}</div>"
 
     def _visibility(self, change=None):
         self.valence.layout.display = None if self.state.salt == CUSTOM else "none"
-        buffered = bool(self.state.buffer)
-        zeta = self.state.wall_mode == "zeta"
-        shown = {self.zeta: zeta, self.charge: not zeta,
-                 self.width: self.state.shape == "Slit",
-                 self.buffer_conc: buffered, self.buffer_pH: buffered}
+        st = self.state
+        buffered = bool(st.buffer)
+        mode = st.wall_mode
+        mat = mode == "material"
+        own = mat and st.material == "custom"
+        shown = {self.zeta: mode == "zeta", self.charge: mode == "charge",
+                 self.width: st.shape == "Slit",
+                 self.buffer_conc: buffered, self.buffer_pH: buffered,
+                 self.salt_pH: mat and not st.ph_from_electrolyte,
+                 self.material: mat, self.material_info: mat,
+                 self.stern_cap: mat and st.material != "silica",
+                 self.site_amphoteric: own, self.site_pK: own,
+                 self.site_pK2: own and st.site_amphoteric, self.site_density: own}
         for wid, on in shown.items():
             wid.layout.display = None if on else "none"
             if id(wid) in self.rows:
@@ -717,6 +779,7 @@ SCREEN_NAMES = {
     "zeta": ("ζ", 1e3, "mV"),
     "charge_density": ("charge σ", 1e3, "mC/m²"),
     "stern_conductance": ("Stern cond.", 1e9, "nS"),
+    "stern_capacitance": ("Stern capacitance", 1.0, "F/m²"),
     "concentration": ("salt conc.", 1.0, "mM"),
     "concentrations": ("salt conc.", 1.0, "mM"),
     "temperature": ("temperature", None, "°C"),
@@ -752,7 +815,7 @@ def screen_words(message, state=None):
                 "the salt conc.")
     m = _RANGE_MSG.match(message)
     if not m or m.group("name") not in names:
-        return message
+        return _wall_potential_words(message)
     label, factor, unit = names[m.group("name")]
     try:
         v = _screen_value(m.group("value"), factor)
@@ -766,6 +829,19 @@ def screen_words(message, state=None):
     rest = rest[1:].strip() if rest.startswith(";") else rest
     out = f"{label} {v:.4g} {unit}: enter a value from {lo_s} to {hi_s} {unit}"
     return out + (f" ({rest})" if rest else "")
+
+
+def _wall_potential_words(message):
+    """A wall potential in volts within a message, in the screen's mV and ζ."""
+    def mv(m):
+        try:
+            v = float(m.group(2)) * 1e3
+        except ValueError:
+            return m.group(0)
+        return f"wall potential ζ of {m.group(1) or ''}{v:.3g} mV"
+    text = re.sub(r"wall potential of (about )?([-+0-9.eE]+) V", mv, message)
+    text = text.replace("|z e zeta/kT| <= ", "|z e ζ/kT| ≤ ")
+    return text.replace("the surface's sites", "the wall's sites")
 
 
 def error_text(exc, state=None):

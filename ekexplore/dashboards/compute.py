@@ -263,6 +263,25 @@ class Explored:
     derived: list = field(default_factory=list)   # (name, value text, meaning)
     curves: Curves | None = None
     images: dict | None = None
+    wall: dict | None = None        # zeta [V], sigma [C/m^2], charged fraction, error
+
+
+def wall_state(r, ref, acc):
+    """The wall as solved: ζ [V], σ [C/m²], the charged fraction of the sites
+    [-] (NaN unless the charge follows the chemistry) and their relative
+    error: the model's error estimate against pb (``acc``), and where a pb
+    reference was solved, the larger of that and the shown values' own
+    difference from it."""
+    vals = {"zeta": scalar(r.wall_potential), "sigma": scalar(r.wall_charge),
+            "fraction": scalar(r.charged_fraction)}
+    err = acc.error if acc is not None else float("nan")
+    if ref is not None and ref is not r and text(ref.model) == "pb":
+        refs = {"zeta": scalar(ref.wall_potential), "sigma": scalar(ref.wall_charge),
+                "fraction": scalar(ref.charged_fraction)}
+        for k, v in vals.items():
+            if np.isfinite(v) and np.isfinite(refs[k]) and refs[k] != 0.0:
+                err = max(err, abs(v - refs[k]) / abs(refs[k]))
+    return dict(vals, error=err, how=acc.how if acc is not None else "")
 
 
 def matrix_error(m, ref):
@@ -290,8 +309,8 @@ def estimated_error(r, state):
                                                    "section")
     est = ek.estimated_model_errors(scalar(r.kappa_size), scalar(r.wall_potential) / VT,
                                     valences=tuple(int(v) for v in z), geometry=geometry,
-                                    condition="potential" if state.wall_mode == "zeta"
-                                    else "charge",
+                                    condition={"zeta": "potential", "charge": "charge"}.get(
+                                        state.wall_mode, "regulated"),
                                     weights=(c / np.sum(z**2 * c)).reshape(-1))
     return float(np.asarray(est[text(r.model)]).reshape(-1)[0])
 
@@ -385,7 +404,8 @@ def explore_matrix(state):
                     profiles=None, pressure_gradient=G, field=E,
                     matrix=matrix, conductances=cond, model=model,
                     verdict=verdict(r, thin, state, ref, acc), accuracy=acc,
-                    problems=problems, derived=derived(r, state, problems))
+                    problems=problems, derived=derived(r, state, problems),
+                    wall=wall_state(r, ref, acc))
 
 
 def explore_fields(ex):
@@ -506,6 +526,9 @@ def derived(r, state, problems=()):
          "potential at the shear plane"),
         ("wall charge σ", U.charge_density(scalar(r.wall_charge)),
          "surface charge balancing the diffuse layer"),
+        *([("charged sites", U.percent(scalar(r.charged_fraction)),
+            "fraction of the wall's sites that carry a charge at this pH and salt")]
+          if np.isfinite(scalar(r.charged_fraction)) else []),
         ("bulk conductivity", U.conductivity(scalar(r.bulk_conductivity)),
          "conductivity of the reservoir electrolyte"),
         ("reciprocity residual", num(scalar(r.reciprocity_residual), 2),
@@ -620,15 +643,19 @@ def map_size(state, n=36):
     centres, each layer), the kappa*size contour lines and the operating point.
     """
     from .state import CONCENTRATION_RANGE, SIZE_RANGE
-    factor = state.ionic_strength_factor()
     i0, i1, ic = _edges_log(CONCENTRATION_RANGE[0], CONCENTRATION_RANGE[1], n)
     s0, s1, sc = _edges_log(SIZE_RANGE[0], SIZE_RANGE[1], n)
+    # the axis is the real ionic strength (buffer, titrant and carbonate ions
+    # included): the salt that reaches it, NaN (left out) below the buffer's own
+    salt = state.salt_for_ionic_strength(ic)
     I, S = np.meshgrid(ic, sc, indexing="ij")
+    C = np.broadcast_to(salt[:, None], I.shape)
     lam = ek.debye_length(I, state.temperature)
     ratio = half_size_ratio(state)
     ka = ratio * S / lam
     ok = (ka >= KAPPA_SIZE_RANGE[0] * 1.01) & (ka <= KAPPA_SIZE_RANGE[1] * 0.99)
-    layers = _layers(state, I[ok] / factor, S[ok])
+    ok &= np.isfinite(C)
+    layers = _layers(state, C[ok], S[ok])
     ii, ss = np.nonzero(ok)
     out = dict(left=i0[ii], right=i1[ii], bottom=s0[ss], top=s1[ss], x=ic[ii], y=sc[ss],
                **layers)
@@ -636,9 +663,17 @@ def map_size(state, n=36):
     Ic = np.logspace(np.log10(CONCENTRATION_RANGE[0]), np.log10(CONCENTRATION_RANGE[1]), 60)
     lam_c = np.asarray(ek.debye_length(Ic, state.temperature), dtype=float)
     contours = {lev: (Ic, lev * lam_c / ratio) for lev in KAPPA_LEVELS}
-    point = (state.concentration * factor, state.size)
+    point = (float(state.ionic_strength()), state.size)
     return {"cells": out, "contours": contours, "point": point, "n_valid": int(ok.sum()),
-            "n_cells": n * n}
+            "n_cells": n * n, "floor": ionic_strength_floor(state)}
+
+
+def ionic_strength_floor(state, pH=None):
+    """Ionic strength [mol/m^3] of the electrolyte with (almost) no salt: the
+    buffer's or the carbonate's own; 0 for a salt alone."""
+    if state.pure_salt:
+        return 0.0
+    return np.asarray(state.ionic_strength(state.SALT_GRID[0], pH), dtype=float)
 
 
 def map_kappa_zeta(state, n=36, phi_max=8.0):
@@ -666,6 +701,91 @@ def map_kappa_zeta(state, n=36, phi_max=8.0):
     point = (scalar(here.kappa_size), abs(scalar(here.wall_potential)) / VT)
     return {"cells": out, "point": point, "debye_length": lam, "ratio": ratio,
             "sign": sign, "thermal_voltage": VT, "n_valid": int(ok.sum()), "n_cells": n * n}
+
+
+#: colour layers of the pH map: key -> (title, unit on screen, factor from SI)
+PH_LAYERS = {
+    "zeta": ("wall potential ζ", "mV", 1e3),
+    "sigma": ("wall charge σ", "mC/m²", 1e3),
+    "charged": ("charged sites", "%", 100.0),
+    "mobility": ("electro-osmotic mobility", "µm·cm/(V·s)", U.MOBILITY_TO_UM_CM),
+    "conductivity": ("channel conductivity L22", "mS/cm", U.S_PER_M_TO_MS_PER_CM),
+}
+#: pH range of the pH map without a buffer
+PH_MAP_RANGE = (2.0, 12.0)
+
+
+def map_pH(state, n_pH=24, n_I=30):
+    """Map of a material wall over pH x ionic strength at the state's channel.
+
+    One batched ``ek.solve`` at the state's model over every cell. With a
+    buffer, each cell is the buffer re-titrated to that pH (its useful range
+    only) with the salt that brings the ionic strength to the cell's value
+    (buffer ions included). Without a buffer the pH is what the wall's sites
+    see, the ions are the salt's (the acid or base that would set that pH is
+    not added). A 2D section is mapped as the slit of the same half-size
+    (:func:`map_proxy`). Returns None unless the wall is a material.
+    """
+    from .state import CONCENTRATION_RANGE
+    if state.wall_mode != "material":
+        return None
+    size = state.size
+    state, factor = map_proxy(state)
+    rng = state.buffer_pH_range() or PH_MAP_RANGE
+    h0, h1, hc = _edges_lin(rng[0], rng[1], n_pH)
+    i0, i1, ic = _edges_log(CONCENTRATION_RANGE[0], CONCENTRATION_RANGE[1], n_I)
+    I, H = np.meshgrid(ic, hc, indexing="ij")
+    C = state.salt_for_ionic_strength(I, H if state.buffer else None)
+    lam = ek.debye_length(I, state.temperature)
+    ka = half_size_ratio(state) * size * factor / lam
+    ok = np.isfinite(C) & (ka >= KAPPA_SIZE_RANGE[0] * 1.01) & (ka <= KAPPA_SIZE_RANGE[1] * 0.99)
+    kw = dict(concentration=C[ok], size=size * factor)
+    if state.buffer:
+        kw["electrolyte_pH"] = H[ok]      # the buffer re-titrated; the wall sees its pH
+    else:
+        kw["pH"] = H[ok]
+    vals = _pH_layers(state, kw)
+    ii, hh = np.nonzero(ok)
+    cells = dict(left=i0[ii], right=i1[ii], bottom=h0[hh], top=h1[hh], x=ic[ii], y=hc[hh],
+                 **vals)
+    point = (float(state.ionic_strength()), state.wall_pH())
+    return {"cells": cells, "point": point, "n_valid": int(ok.sum()), "n_cells": n_pH * n_I,
+            "pH_range": rng, "floor": ionic_strength_floor(state)}
+
+
+def _pH_values(r):
+    return {"zeta": np.asarray(r.wall_potential, dtype=float),
+            "sigma": np.asarray(r.wall_charge, dtype=float),
+            "charged": np.asarray(r.charged_fraction, dtype=float),
+            "mobility": np.asarray(r.electroosmotic_mobility, dtype=float),
+            "conductivity": np.asarray(r.conductive, dtype=float),
+            "ionic_strength": np.asarray(r.electrolyte.ionic_strength, dtype=float)
+            * np.ones_like(np.asarray(r.wall_potential, dtype=float)),
+            "model": np.asarray(r.model).astype(str)}
+
+
+def _pH_layers(state, kw):
+    """The pH map's values at flat arrays of cells: one solve; if the batch is
+    refused (a cell beyond the solver range), cell by cell with NaN (grey)
+    where refused."""
+    try:
+        return _pH_values(_quiet_solve(state, None, **kw))
+    except ValueError:
+        pass
+    n = np.size(kw["concentration"])
+    out = {k: np.full(n, np.nan) for k in PH_LAYERS}
+    out["ionic_strength"] = np.full(n, np.nan)
+    out["model"] = np.full(n, "none", dtype=object)
+    for k in range(n):
+        one = {key: (np.asarray(v).reshape(-1)[k] if np.size(v) == n else v)
+               for key, v in kw.items()}
+        try:
+            vals = _pH_values(_quiet_solve(state, None, **one))
+        except ValueError:
+            continue
+        for key in out:
+            out[key][k] = np.asarray(vals[key]).reshape(-1)[0]
+    return out
 
 
 # ---------------------------------------------------------------------------

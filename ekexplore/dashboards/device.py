@@ -56,6 +56,13 @@ def readout_html(d, state):
         warn += (f"<div class='ekx-warn'>⚠ The slit is {U.length(state.width)} wide, under "
                  f"ten gaps ({U.length(10 * state.size)}): the slit model misses the side "
                  "walls. Choose the Rectangle shape for this channel.</div>")
+    if state.wall_mode == "material":
+        r = d.result
+        warn += (f"<div class='ekx-small'><b>Wall</b>, {html.escape(state.material_label())} "
+                 f"at pH {state.wall_pH():.2f}: ζ = "
+                 f"{html.escape(U.potential(compute.scalar(r.wall_potential)))}, σ = "
+                 f"{html.escape(U.charge_density(compute.scalar(r.wall_charge)))}, charged "
+                 f"sites {html.escape(U.percent(compute.scalar(r.charged_fraction)))}.</div>")
     return (warn + f"<div class='ekx-small'>{html.escape(what)}; ΔV = "
             f"{html.escape(U.voltage(state.voltage))}, Δp = "
             f"{html.escape(U.pressure(state.pressure_drop))}; model "

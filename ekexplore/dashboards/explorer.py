@@ -10,7 +10,7 @@ import numpy as np
 from . import compute
 from .common import (CSS, PALETTE, CodeExport, SetupControls, Status, ViewUpdates, Worker, bokeh_widget,
                      download_link, new_figure)
-from .state import State
+from .state import MATERIALS, State
 from . import units as U
 from .units import eng, length_unit, num, prefix_scale
 
@@ -79,6 +79,33 @@ def matrix_html(ex, state):
     return f"{warn}<div style='display:flex;flex-wrap:wrap'>{area}{whole}</div>{foot}"
 
 
+def wall_html(ex, state):
+    """The wall as solved: ζ, σ and (for a material) the charged share of its
+    sites, with the relative error estimate of the shown model."""
+    wl = ex.wall
+    if wl is None:
+        return ""
+    if state.wall_mode == "material":
+        label = MATERIALS.get(state.material, (state.material,))[0]
+        src = "the electrolyte" if state.ph_from_electrolyte else "typed, no buffer"
+        what = f"{label} at pH {state.wall_pH():.2f} ({src})"
+    elif state.wall_mode == "zeta":
+        what = "ζ given"
+    else:
+        what = "σ given"
+    parts = [f"ζ = {U.potential(wl['zeta'])}", f"σ = {U.charge_density(wl['sigma'])}"]
+    if np.isfinite(wl["fraction"]):
+        parts.append(f"charged sites {U.percent(wl['fraction'])}")
+    err = wl["error"]
+    if wl["how"] == "numerical estimate of pb":
+        how = f"estimated error ±{U.percent(err, 2)} (pb, numerical)"
+    else:
+        how = f"estimated error ±{U.percent(err, 2)} ({wl['how']}, model {ex.model})"
+    return (f"<div class='ekx-wall'><b>Wall</b>, {html.escape(what)}: "
+            f"{html.escape(' · '.join(parts))} <span class='ekx-small'>— "
+            f"{html.escape(how)}</span></div>")
+
+
 def derived_html(rows):
     body = "".join(f"<tr><td class='l'>{symbols(n)}</td><td>{symbols(v)}</td>"
                    f"<td class='l'>{symbols(m)}</td></tr>" for n, v, m in rows)
@@ -98,6 +125,8 @@ class ExplorerView(ViewUpdates):
         self.controls.rejections.append(self._rejected)
         self.status = Status()
         self.verdict = w.HTML()
+        self.wall_line = w.HTML()
+        self.wall_line.add_class("ekx-wall-line")
         self.matrix = w.HTML()
         self.matrix.add_class("ekx-matrix")
         self.derived = w.HTML()
@@ -152,7 +181,8 @@ class ExplorerView(ViewUpdates):
         header = w.HTML(CSS + f"<span class='ekx-title'>{html.escape(TITLE)}</span> "
                         "<span class='ekx-sub'>&nbsp; flow and current of an electrolyte in "
                         "a charged channel: [⟨u⟩, ⟨j⟩] = M · [−dp/dx, E]</span>")
-        right = w.VBox([self.status.widget, self.verdict, self.matrix, self.tabs],
+        right = w.VBox([self.status.widget, self.verdict, self.wall_line, self.matrix,
+                        self.tabs],
                        layout=w.Layout(flex="1 1 auto", max_width="940px", min_width="0",
                                         overflow="auto"))
         self.widget = w.VBox([header, w.HBox([self.controls.widget, right])])
@@ -247,6 +277,7 @@ class ExplorerView(ViewUpdates):
     def _show_matrix(self, ex, st):
         """First stage: the matrix, verdict and derived quantities."""
         self.verdict.value = f"<div class='ekx-verdict'>{html.escape(ex.verdict)}</div>"
+        self.wall_line.value = wall_html(ex, st)
         self.matrix.value = matrix_html(ex, st)
         self.derived.value = derived_html(ex.derived)
         self.code.value = st.code()
