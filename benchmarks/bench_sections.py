@@ -2,7 +2,24 @@
 with about 1e5 unknowns, and the accuracy against closed forms and the 1D core.
 
 Run: python benchmarks/run.py bench_sections   (or python benchmarks/bench_sections.py)
+
+Distribution mode: ``python benchmarks/bench_sections.py distribution [N] [--out FILE]``
+solves N (default 64) random valid sections one by one, each in a fresh
+process (cold mesh cache, as a first call), at the default accuracy: every
+shape, model (thin, dh, pb, auto) and wall (constant zeta, constant charge),
+three salts, sizes 10 nm to 3 um, 0.1 to 300 mM. It prints the median, 90th
+percentile and maximum of the solve time, in seconds and as ratios to a
+reference task timed in the same run (a sparse LU of a fixed 2D Laplacian,
+numpy/scipy only), so runs of two checkouts on a loaded machine compare by
+the ratios. The points depend on the seed only; run it once per checkout
+with that checkout first on PYTHONPATH (a point the checkout refuses as out
+of range is counted, not timed). A point over the cap (B7_CAP, default
+120 s) counts as the cap.
 """
+import json
+import os
+import subprocess
+import sys
 import time
 
 import numpy as np
@@ -128,6 +145,125 @@ def bench_scaling(quick):
               f"1e5 unknowns <= 2 s)")
 
 
+DIST_CHILD = r"""
+import json, sys, time, warnings
+import numpy as np
+import ekexplore as ek
+seed = int(sys.argv[1])
+rng = np.random.default_rng(1000 + seed)
+name = ["Rectangle", "Trapezoid", "IsotropicEtch", "Ellipse", "Polygon"][seed % 5]
+s = 10 ** rng.uniform(-8, -5.5)                      # depth or height, 10 nm to 3 um
+if name == "Rectangle":
+    ch = ek.Rectangle(s * rng.uniform(1, 5), s)
+elif name == "Trapezoid":
+    ch = ek.Trapezoid.from_sidewall_angle(s * rng.uniform(2, 5), s)
+elif name == "IsotropicEtch":
+    ch = ek.IsotropicEtch(s * rng.uniform(0, 4), s)
+elif name == "Ellipse":
+    ch = ek.Ellipse(s * rng.uniform(1, 4), s)
+else:
+    ch = ek.Polygon(np.array([[0, 0], [3, 0], [3.5, 1.5], [1.5, 2.5], [-0.5, 1.5]]) * s / 2.5)
+salt = ["KCl", "CaCl2", "Na2SO4"][int(rng.integers(3))]
+e = ek.Electrolyte.salt(salt, 10 ** rng.uniform(-1, 2.5))
+sign = -1.0 if rng.random() < 0.75 else 1.0
+if rng.random() < 0.5:
+    w, wall = ek.Wall(zeta=sign * 10 ** rng.uniform(-3, np.log10(0.15))), "zeta"
+else:
+    w, wall = ek.Wall(charge_density=sign * 10 ** rng.uniform(-4, -1.5)), "charge"
+model = ["thin", "dh", "pb", "auto"][(seed // 5) % 4]
+row = {"seed": seed, "shape": name, "model": model, "wall": wall, "salt": salt}
+t = time.perf_counter()
+with warnings.catch_warnings(record=True) as caught:
+    warnings.simplefilter("always")
+    try:
+        r = ek.solve(ch, e, w, model=model)
+    except ValueError as exc:   # outside the accepted range: not a timing point
+        row["refused"] = str(exc)[:100]
+        print(json.dumps(row))
+        sys.exit()
+row.update(seconds=time.perf_counter() - t, error=float(r.error_estimate),
+           kappa_size=float(r.kappa_size),
+           warnings=sorted({type(w.message).__name__ for w in caught}))
+print(json.dumps(row))
+"""
+
+REF_CHILD = r"""
+import time
+import numpy as np
+from scipy import sparse
+from scipy.sparse.linalg import splu
+n = 250
+T = sparse.diags([-np.ones(n - 1), 2 * np.ones(n), -np.ones(n - 1)], [-1, 0, 1])
+A = (sparse.kron(sparse.eye(n), T) + sparse.kron(T, sparse.eye(n))).tocsc()
+b = np.ones(n * n)
+t = time.perf_counter()
+lu = splu(A)
+for _ in range(20):
+    lu.solve(b)
+print(time.perf_counter() - t)
+"""
+
+
+def _reference():
+    out = subprocess.run([sys.executable, "-c", REF_CHILD], capture_output=True, text=True,
+                         check=True)
+    return float(out.stdout.strip().splitlines()[-1])
+
+
+def distribution(n=64, out=None, cap=None):
+    """Median, 90th percentile and maximum of one 2D solve over random valid
+    inputs, in seconds and in units of the same run's reference task."""
+    import ekexplore
+    cap = float(os.environ.get("B7_CAP", "120")) if cap is None else cap
+    print(f"package: {os.path.dirname(ekexplore.__file__)}")
+    refs, rows = [_reference()], []
+    for seed in range(n):
+        try:
+            res = subprocess.run([sys.executable, "-c", DIST_CHILD, str(seed)],
+                                 capture_output=True, text=True, timeout=cap + 60)
+            row = json.loads(res.stdout.strip().splitlines()[-1]) if res.stdout.strip() else \
+                {"seed": seed, "failed": (res.stderr.strip().splitlines() or ["?"])[-1][:120]}
+        except subprocess.TimeoutExpired:
+            row = {"seed": seed, "seconds": cap, "over_cap": True}
+        if row.get("seconds", 0) > cap:
+            row.update(seconds=cap, over_cap=True)
+        rows.append(row)
+        if "seconds" in row:
+            print(f"  {seed:3d} {row.get('shape', '?'):13s} {row.get('model', '?'):4s} "
+                  f"{row.get('wall', '?'):6s} {row['seconds']:8.2f} s  err "
+                  f"{row.get('error', float('nan')):.1e} {' '.join(row.get('warnings', []))}",
+                  flush=True)
+        else:
+            print(f"  {seed:3d} {row.get('refused') or row.get('failed')}", flush=True)
+        if seed % 16 == 15:
+            refs.append(_reference())
+    ref = float(np.median(refs))
+    t = np.array([r["seconds"] for r in rows if "seconds" in r])
+    refused = sum("refused" in r for r in rows)
+    failed = [r["seed"] for r in rows if "failed" in r]
+    over = [r["seed"] for r in rows if r.get("over_cap")]
+    summary = {"points": n, "timed": int(t.size), "refused": refused, "failed": failed,
+               "over_cap": over, "cap": cap, "reference_s": ref, "references": refs,
+               "median_s": float(np.median(t)), "p90_s": float(np.percentile(t, 90)),
+               "max_s": float(t.max())}
+    print(f"2D solve time over {t.size} random valid points ({refused} refused as out of "
+          f"range, failed {failed}, over the {cap:g} s cap {over}):")
+    print(f"  median {summary['median_s']:.3f} s, 90th percentile {summary['p90_s']:.3f} s, "
+          f"max {summary['max_s']:.2f} s")
+    print(f"  reference task {ref:.3f} s (median of {len(refs)}): median "
+          f"{summary['median_s'] / ref:.2f}, 90th percentile {summary['p90_s'] / ref:.2f}, "
+          f"max {summary['max_s'] / ref:.1f} references")
+    for model in ("thin", "dh", "pb", "auto"):
+        tm = np.array([r["seconds"] for r in rows if r.get("model") == model and "seconds" in r])
+        if tm.size:
+            print(f"  {model:4s}: {tm.size:2d} points, median {np.median(tm):.3f} s, "
+                  f"max {tm.max():.2f} s")
+    if out:
+        with open(out, "w") as f:
+            json.dump({"summary": summary, "rows": rows}, f, indent=1)
+    return summary
+
+
 def main(quick=False):
     bench_default(quick)
     bench_large(quick)
@@ -136,4 +272,9 @@ def main(quick=False):
 
 
 if __name__ == "__main__":
-    main()
+    if len(sys.argv) > 1 and sys.argv[1] == "distribution":
+        args = [a for a in sys.argv[2:] if not a.startswith("--out=")]
+        dest = [a.split("=", 1)[1] for a in sys.argv[2:] if a.startswith("--out=")]
+        distribution(int(args[0]) if args else 64, dest[0] if dest else None)
+    else:
+        main()

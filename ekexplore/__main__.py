@@ -25,13 +25,28 @@ import urllib.request
 from pathlib import Path
 
 # absolute: tests load this file on its own to reach free_port
-from ekexplore._serve import ENV_TOKEN, is_loopback, is_wildcard
+from ekexplore._serve import CULL_DISCONNECTED, ENV_TOKEN, is_loopback, is_wildcard
 
 DASHBOARD_NAMES = ("explorer", "regimes", "device")
 #: A static file of Voila's page template: answers without starting a kernel.
 PROBE_PATH = "/voila/templates/lab/static/voila.js"
 #: Shortest token accepted from the command line [characters].
 TOKEN_MIN = 16
+
+#: Resident memory of one dashboard page's kernel once rendered [MiB], the
+#: largest of the three pages measured (tests/test_serve.py checks it on a
+#: real server), and the bound of its 2D mesh cache [MiB]
+#: (ekexplore.sections.meshes.MESH_CACHE_BYTES).
+KERNEL_MIB = 250
+MESH_CACHE_MIB = 256
+
+
+def memory_bound_mib(max_kernels):
+    """Memory the server's kernels can hold at most [MiB]: each page's kernel
+    with a full mesh cache, times the kernel cap (the 2D solve in progress
+    and the server process itself, about 100 MiB, come on top)."""
+    return max_kernels * (KERNEL_MIB + MESH_CACHE_MIB)
+
 
 CAUTION = ("Caution: electro-osmosis uses voltages that can kill, and pressurised chips can "
            "burst; all figures are model estimates that a measurement must confirm.")
@@ -62,12 +77,13 @@ def dashboards_dir():
 
 
 def voila_command(root, port, host="127.0.0.1", cull_idle=600, cull_interval=60,
-                  max_kernels=8, allow_host=()):
+                  max_kernels=8, allow_host=(), cull_disconnected=CULL_DISCONNECTED):
     """The command line of the guarded Voila server (:mod:`ekexplore._serve`);
     the token goes in the environment variable ``EKEXPLORE_TOKEN``."""
     cmd = [sys.executable, "-m", "ekexplore._serve", str(root), f"--port={int(port)}",
            f"--host={host}", f"--cull-idle={int(cull_idle)}",
-           f"--cull-interval={int(cull_interval)}", f"--max-kernels={int(max_kernels)}"]
+           f"--cull-interval={int(cull_interval)}", f"--max-kernels={int(max_kernels)}",
+           f"--cull-disconnected={int(cull_disconnected)}"]
     cmd += [f"--allow-host={h}" for h in allow_host]
     return cmd
 
@@ -99,7 +115,8 @@ def remote_warning(host, port):
         bar])
 
 
-def check_options(host, token, max_kernels, cull_idle, cull_interval):
+def check_options(host, token, max_kernels, cull_idle, cull_interval,
+                  cull_disconnected=CULL_DISCONNECTED):
     """Refuse unsafe or impossible options with a ValueError naming them."""
     if token is not None:
         if len(token) < TOKEN_MIN or not token.isprintable() or any(c in token for c in " &#?/"):
@@ -113,6 +130,9 @@ def check_options(host, token, max_kernels, cull_idle, cull_interval):
     if not 1 <= cull_interval <= cull_idle:
         raise ValueError(f"--cull-interval = {cull_interval} s is outside the allowed range "
                          f"[1, {cull_idle}] s (at most --cull-idle)")
+    if not 1 <= cull_disconnected <= 7 * 86400:
+        raise ValueError(f"--cull-disconnected = {cull_disconnected} s is outside the allowed "
+                         "range [1, 604800] s")
 
 
 def wait_until_answering(proc, host, port, timeout=180.0):
@@ -134,7 +154,7 @@ def wait_until_answering(proc, host, port, timeout=180.0):
 
 
 def serve(port=None, host="127.0.0.1", cull_idle=600, cull_interval=60, open_browser=False,
-          max_kernels=8, token=None, allow_host=()):
+          max_kernels=8, token=None, allow_host=(), cull_disconnected=CULL_DISCONNECTED):
     """Run the guarded Voila server on the dashboards until interrupted;
     returns its exit code."""
     try:
@@ -145,7 +165,7 @@ def serve(port=None, host="127.0.0.1", cull_idle=600, cull_interval=60, open_bro
                   "pip install 'ekexplore[dashboard]'", file=sys.stderr)
             return 2
     try:
-        check_options(host, token, max_kernels, cull_idle, cull_interval)
+        check_options(host, token, max_kernels, cull_idle, cull_interval, cull_disconnected)
     except ValueError as exc:
         print(f"ekexplore serve: {exc}", file=sys.stderr)
         return 2
@@ -154,7 +174,8 @@ def serve(port=None, host="127.0.0.1", cull_idle=600, cull_interval=60, open_bro
     if not is_loopback(host):
         print(remote_warning(host, port), file=sys.stderr, flush=True)
     root = dashboards_dir()
-    cmd = voila_command(root, port, host, cull_idle, cull_interval, max_kernels, allow_host)
+    cmd = voila_command(root, port, host, cull_idle, cull_interval, max_kernels, allow_host,
+                        cull_disconnected)
     env = {**os.environ, ENV_TOKEN: token}
     t0 = time.monotonic()
     proc = subprocess.Popen(cmd, cwd=root, env=env)
@@ -177,7 +198,11 @@ def serve(port=None, host="127.0.0.1", cull_idle=600, cull_interval=60, open_bro
         for name, url in urls(host, port, token).items():
             print(f"  {name:9s} {url}", flush=True)
         print(f"Server answering after {time.monotonic() - t0:.1f} s. At most {max_kernels} "
-              f"pages at a time; a page idle for {cull_idle} s is closed.", flush=True)
+              f"pages at a time; a page idle for {cull_idle} s is closed, a closed tab frees "
+              f"its page at once (or {cull_disconnected} s after its last activity). The "
+              f"pages' kernels hold at most about {memory_bound_mib(max_kernels) / 1024:.1f} "
+              f"GiB ({max_kernels} x ({KERNEL_MIB} MiB + a {MESH_CACHE_MIB} MiB mesh cache)).",
+              flush=True)
         print(CAUTION, flush=True)
         print("Press Ctrl+C to stop.", flush=True)
         if open_browser:
@@ -207,11 +232,19 @@ def main(argv=None):
                    help=f"access token (at least {TOKEN_MIN} characters; default: a new "
                         "random one each start, printed in the URL)")
     p.add_argument("--max-kernels", type=int, default=8,
-                   help="dashboard pages open at a time, each with its own kernel of about "
-                        "150 MiB (default 8); beyond it a 'busy' page")
+                   help=f"dashboard pages open at a time (default 8); beyond it a 'busy' page. "
+                        f"Each page has its own kernel of up to about {KERNEL_MIB} MiB plus a "
+                        f"2D mesh cache bounded to {MESH_CACHE_MIB} MiB, so the kernels hold at "
+                        f"most max-kernels x {KERNEL_MIB + MESH_CACHE_MIB} MiB (8: about "
+                        f"{memory_bound_mib(8) / 1024:.1f} GiB)")
     p.add_argument("--cull-idle", type=int, default=600,
                    help="close a page's kernel after this many seconds without activity, "
                         "open tab or not (default 600)")
+    p.add_argument("--cull-disconnected", type=int, default=CULL_DISCONNECTED,
+                   help="close a kernel whose page is gone (a tab closed without saying so, "
+                        "a crashed browser) after this many seconds without activity "
+                        f"(default {CULL_DISCONNECTED}); a tab closed normally frees its "
+                        "kernel at once")
     p.add_argument("--cull-interval", type=int, default=60,
                    help="how often to look for idle kernels [s] (default 60)")
     p.add_argument("--allow-host", action="append", default=[], metavar="NAME",
@@ -224,7 +257,8 @@ def main(argv=None):
         return 0 if args.command is None and argv == [] else 2
     os.environ.setdefault("PYTHONUNBUFFERED", "1")
     return serve(args.port, args.host, args.cull_idle, args.cull_interval, args.open,
-                 args.max_kernels, args.token or os.environ.get(ENV_TOKEN), args.allow_host)
+                 args.max_kernels, args.token or os.environ.get(ENV_TOKEN), args.allow_host,
+                 args.cull_disconnected)
 
 
 if __name__ == "__main__":

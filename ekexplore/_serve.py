@@ -18,7 +18,10 @@ wrapped (a subclass whose ``prepare`` runs first) to add:
 
 Idle kernels, connected or not, are culled by the kernel manager
 (``cull_connected=True``): an open tab that nobody uses for ``cull_idle``
-seconds loses its kernel.
+seconds loses its kernel. Closing a tab shuts its kernel at once (Voila's
+page sends a shutdown request as it closes; the XSRF cookie it needs is set
+with the page); a kernel left with no page connected (a browser that crashed)
+is culled after ``cull_disconnected`` seconds without activity.
 
 Run by :func:`ekexplore.__main__.serve`; the token comes in the environment
 variable :data:`ENV_TOKEN` (never on the command line, which other users of
@@ -131,21 +134,39 @@ def _minutes(seconds):
 STARTUP_GRACE = 300
 
 
-def guarded_kernel_manager_class():
+#: A kernel without any page connected is shut after this many seconds
+#: without activity [s] (``--cull-disconnected``): a closed tab normally shuts
+#: its kernel at once (the page's closing request), this catches a tab that
+#: could not send it (a crashed or killed browser, a lost network).
+CULL_DISCONNECTED = 60
+
+
+def guarded_kernel_manager_class(cull_disconnected=CULL_DISCONNECTED):
     """jupyter_server's kernel manager, except that a kernel still starting is
-    not culled before :data:`STARTUP_GRACE` (or ``cull_idle``, if longer)."""
+    not culled before :data:`STARTUP_GRACE` (or ``cull_idle``, if longer), and
+    a kernel with no page connected is culled after ``cull_disconnected``
+    seconds without activity (a render in progress is activity)."""
     from datetime import timedelta
 
+    from jupyter_core.utils import ensure_async
     from jupyter_server._tz import utcnow
     from jupyter_server.services.kernels.kernelmanager import AsyncMappingKernelManager
 
     class GuardedKernelManager(AsyncMappingKernelManager):
         async def cull_kernel_if_idle(self, kernel_id):
             kernel = self._kernels.get(kernel_id)
-            if (kernel is not None and getattr(kernel, "execution_state", None) == "starting"
-                    and hasattr(kernel, "last_activity")):
-                grace = timedelta(seconds=max(STARTUP_GRACE, self.cull_idle_timeout))
-                if utcnow() - kernel.last_activity < grace:
+            if kernel is not None and hasattr(kernel, "last_activity"):
+                state = getattr(kernel, "execution_state", None)
+                idle = utcnow() - kernel.last_activity
+                if state == "starting":
+                    grace = timedelta(seconds=max(STARTUP_GRACE, self.cull_idle_timeout))
+                    if idle < grace:
+                        return None
+                elif (state == "idle" and not self._kernel_connections.get(kernel_id, 0)
+                      and idle > timedelta(seconds=cull_disconnected)):
+                    self.log.warning("Culling kernel %s: no page connected for %d s",
+                                     kernel_id, int(idle.total_seconds()))
+                    await ensure_async(self.shutdown_kernel(kernel_id))
                     return None
             return await super().cull_kernel_if_idle(kernel_id)
 
@@ -204,6 +225,10 @@ def guarded_voila_class():
                         return
                     app._ekx_starting += 1
                     self._ekx_counted = True
+                    # the page's closing request (shutdown of its kernel) must
+                    # carry the XSRF cookie: without it the server refused it
+                    # (403) and a closed tab kept its kernel until culled
+                    self.xsrf_token
 
                 def on_finish(self):
                     if getattr(self, "_ekx_counted", False):
@@ -351,6 +376,7 @@ def main(argv=None):
     p.add_argument("--max-kernels", type=int, default=8)
     p.add_argument("--cull-idle", type=int, default=600)
     p.add_argument("--cull-interval", type=int, default=60)
+    p.add_argument("--cull-disconnected", type=int, default=CULL_DISCONNECTED)
     p.add_argument("--allow-host", action="append", default=[])
     a = p.parse_args(argv)
     token = os.environ.pop(ENV_TOKEN, "")
@@ -361,7 +387,8 @@ def main(argv=None):
     app = cls.instance()
     app.initialize(voila_argv(a.root, a.port, a.host, a.max_kernels, a.cull_idle,
                               a.cull_interval))
-    app.voila_configuration.multi_kernel_manager_class = guarded_kernel_manager_class()
+    app.voila_configuration.multi_kernel_manager_class = guarded_kernel_manager_class(
+        a.cull_disconnected)
     app.allow_host = list(a.allow_host)
     app.token = token
     app.start()

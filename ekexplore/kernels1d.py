@@ -297,21 +297,31 @@ def _profile_potential(b, m, model, grid, phi_w):
     return gouy_chapman_potential(zc, phi_w[:, None], np.exp(-b.K[:, None] * grid.x))
 
 
-def _profiles(b, shape, m, models, wall_potential):
-    """Factory for the profiles callable of a (possibly mixed-model) batch."""
+def profiles_1d(m, half_size, cond, models, wall_potential, pressure_gradient=1.0,
+                field=1.0):
+    """Profiles of a (possibly mixed-model) batch of slits (m = 0) or tubes
+    (m = 1) from its conditions, models and wall potentials [V]."""
+    b = cond.flat(half_size)
+    shape = cond.shape
+    phi_w_all = np.broadcast_to(wall_potential, shape).reshape(b.B) / b.VT
+    mod = np.broadcast_to(models, shape).reshape(b.B)
+    x0 = _inner_scale(b, phi_w_all)
+    grid = make_grid(m, x0, PROFILE_CELLS)
+    phi = np.empty(grid.x.shape)
+    for name in MODEL_NAMES:
+        idx = np.flatnonzero(mod == name)
+        if idx.size:
+            phi[idx] = _profile_potential(b.take(idx), m, name,
+                                          make_grid(m, x0[idx], PROFILE_CELLS),
+                                          phi_w_all[idx])
+    return Profiles.from_1d(m, grid, phi, b, mod, shape, pressure_gradient, field)
+
+
+def _profiles(half_size, cond, m, models, wall_potential):
+    """The profiles callable of a batch: it keeps the conditions (views of the
+    inputs) rather than their flat copies, which it rebuilds when called."""
     def make(pressure_gradient=1.0, field=1.0):
-        phi_w_all = np.broadcast_to(wall_potential, shape).reshape(b.B) / b.VT
-        mod = np.broadcast_to(models, shape).reshape(b.B)
-        x0 = _inner_scale(b, phi_w_all)
-        grid = make_grid(m, x0, PROFILE_CELLS)
-        phi = np.empty(grid.x.shape)
-        for name in MODEL_NAMES:
-            idx = np.flatnonzero(mod == name)
-            if idx.size:
-                phi[idx] = _profile_potential(b.take(idx), m, name,
-                                              make_grid(m, x0[idx], PROFILE_CELLS),
-                                              phi_w_all[idx])
-        return Profiles.from_1d(m, grid, phi, b, mod, shape, pressure_gradient, field)
+        return profiles_1d(m, half_size, cond, models, wall_potential, pressure_gradient, field)
     return make
 
 
@@ -351,5 +361,5 @@ def transport_1d(m, half_size, cond, models, options):
     shape = cond.shape
     for k in out:
         out[k] = out[k].reshape(out[k].shape[:-1] + shape)
-    out["profiles"] = _profiles(b, shape, m, out["model"], out["wall_potential"])
+    out["profiles"] = _profiles(half_size, cond, m, out["model"], out["wall_potential"])
     return out

@@ -345,7 +345,7 @@ def read_sweep(path):
 
 def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.01,
           length=None, executor=None, chunk_size=4096, progress=None, on_error="record",
-          output=None, resume=False, time_limit=None, surface=None, **fixed):
+          output=None, resume=False, time_limit=None, surface=None, in_memory=True, **fixed):
     """Evaluate many designs and return one tidy table.
 
     Parameters
@@ -389,6 +389,14 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
     output : str or path, optional
         A CSV file to which finished designs are appended as they come in
         (see Notes). Refused if it exists, unless ``resume``.
+    in_memory : bool
+        True (default): return the whole table. False (needs ``output``):
+        finished designs are only written to the file and sweep returns None,
+        so its memory stays bounded however many designs there are: the
+        design table (8 bytes a design per input column) and one chunk
+        (``benchmarks/bench_memory.py`` measures it at 1e7 designs). Read the
+        file in pieces with ``pandas.read_csv(output, skiprows=1,
+        chunksize=...)`` or whole with :func:`read_sweep`.
     resume : bool
         Continue the sweep in ``output``: designs already in the file are
         not computed again (failed ones included: their error is kept) and
@@ -462,6 +470,10 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
     if time_limit is not None:
         time_limit = check_scalar("time_limit", time_limit, 1e-3, 1e6, unit="s")
     chunk_size = check_integer("chunk_size", chunk_size, 1, None)
+    if in_memory not in (True, False):
+        raise ValueError(f"in_memory must be True or False, got {in_memory!r}")
+    if not in_memory and output is None:
+        raise ValueError("in_memory=False needs output=<a CSV file>: the results go only there")
     cols = design_table(grid, table, **fixed)
     missing = [p for p in SHAPES[shape].parameters if p not in cols]
     if missing:
@@ -547,6 +559,12 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
             bar = None
 
     parts = [] if previous is None else [previous]
+    written, failed_out = 0, []      # in_memory=False: what the file got, the failed rows
+    if not in_memory and previous is not None:
+        written = len(previous)
+        bad = previous["error"].notna()
+        failed_out = [(int(d), e) for d, e in zip(previous["design"][bad], previous["error"][bad])]
+        parts = []
     failure = None
     try:
         if executor is None:
@@ -565,7 +583,12 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
             if stop_first and bad.any():
                 failure = part[bad].iloc[0]
                 part = part[~bad]  # the failing design is not written: a resume retries it
-            parts.append(part)
+            if in_memory:
+                parts.append(part)
+            else:
+                written += len(part)
+                bad = part["error"].notna()
+                failed_out += [(int(d), e) for d, e in zip(part["design"][bad], part["error"][bad])]
             if fh is not None and len(part):
                 part.to_csv(fh, header=False, index=False, columns=columns)
                 _sync(fh)
@@ -586,11 +609,21 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
         params = {k: (v.item() if hasattr(v, "item") else v)
                   for k, v in ((k, cols[k][row]) for k in inputs)}
         shown = ", ".join(f"{k}={v!r}" for k, v in params.items())
-        kept = sum(len(p) for p in parts)
+        kept = sum(len(p) for p in parts) if in_memory else written
         where = f"; the {kept} designs finished are in {str(output)!r}" if output else ""
         raise SweepError(f"design {row} ({shown}) failed: {failure['error']}{where}",
                          row=row, parameters=params)
 
+    if not in_memory:
+        failed_out.sort()
+        if failed_out:
+            shown = ", ".join(str(i) for i, _ in failed_out[:10]) + (
+                ", ..." if len(failed_out) > 10 else "")
+            warnings.warn(f"{len(failed_out)} of {n} designs failed (rows {shown}); their "
+                          f"results are NaN in {str(output)!r} and the 'error' column says "
+                          f"why, e.g. row {failed_out[0][0]}: {failed_out[0][1]}",
+                          SweepWarning, stacklevel=2)
+        return None
     frame = pd.concat(parts, ignore_index=True) if parts else pd.DataFrame(columns=columns)
     frame = frame.sort_values("design").set_index("design")
     frame.index.name = None

@@ -10,14 +10,19 @@ conductive coefficient.
 """
 from __future__ import annotations
 
+import copy
+import warnings
+from dataclasses import fields, replace
+
 import numpy as np
 
+from ._constants import thermal_voltage
 from ._state import Conditions
 from ._validate import (broadcast_named, check_choice, check_finite_result, check_positive,
                         check_range, check_scalar)
 from .channels import Channel
 from .electrolyte import Electrolyte
-from .models import ERROR_METHOD, MODEL_CHOICES, MODEL_TABLE, PHI_MAX, auto_choice
+from .models import ERROR_METHOD, MODEL_CHOICES, MODEL_NAMES, MODEL_TABLE, PHI_MAX, auto_choice
 from .wall import Wall
 
 __all__ = ["solve", "Result", "MODEL_CHOICES", "ModelRangeWarning", "CrowdingWarning",
@@ -32,6 +37,19 @@ __all__ = ["solve", "Result", "MODEL_CHOICES", "ModelRangeWarning", "CrowdingWar
 CROWDING_LIMIT = 1000.0
 #: Default time a 2D solve may spend refining toward its accuracy [s].
 DEFAULT_TIME_BUDGET = 60.0
+#: Points per chunk of a slit or tube batch: ``solve`` checks, chooses the
+#: models, runs the kernel and keeps the compact result one chunk at a time,
+#: so its working memory above the result stays of the order of 100 MiB at
+#: any batch size (benchmarks/bench_memory.py).
+SOLVE_CHUNK = 65536
+#: Bytes a :class:`Result` keeps per point: the matrix (32), error estimate,
+#: wall potential, wall charge and counter-ion current (8 each) and the model
+#: (1). Everything else is computed on access.
+RESULT_BYTES_PER_POINT = 65
+#: Keep the kernel's two parts of L22 and the per-ion currents on the result
+#: (``Result._parts``), for the regression record only: they cost 8 (k + 2)
+#: bytes a point for k ions and no public figure needs them.
+_KEEP_PARTS = False
 
 
 class ModelRangeWarning(UserWarning):
@@ -51,26 +69,146 @@ def _first(mask, values):
     return values[np.unravel_index(int(np.flatnonzero(mask)[0]), mask.shape)]
 
 
-def _warn_model_ranges(cond, half_size, models, estimates):
-    """Warn where thin or dh was forced outside its accurate range (model table)."""
-    import warnings
-    K = cond.kappa * np.broadcast_to(half_size, cond.shape)
-    for name in ("thin", "dh"):
-        sel = np.asarray(models) == name
-        if not np.any(sel) or estimates is None:
-            continue
-        spec = MODEL_TABLE[name]
-        bad = sel & (estimates[name] > spec.accurate_error)
-        if not np.any(bad):
-            continue
-        k = np.unravel_index(int(np.argmax(np.where(bad, estimates[name], -1.0))), bad.shape)
-        warnings.warn(
-            f"model={name!r} is outside its range at {int(bad.sum())} of {bad.size} points "
-            f"({spec.accurate_range}); worst at kappa*half_size = {float(K[k]):.3g}: "
-            f"estimated error {float(estimates[name][k]):.3g}, "
-            f"{float(estimates[name][k]) / spec.accurate_error:.3g} times the "
-            f"{spec.accurate_error:g} limit; use model='auto' or 'pb'",
-            ModelRangeWarning, stacklevel=3)
+class _Findings:
+    """What the checks found over the chunks of one solve, said once at the end."""
+
+    def __init__(self, size):
+        self.size = size
+        self.ranges = {}        # model -> [count, worst estimate, kappa*half-size there]
+        self.impossible = None  # [count, model, kappa*half-size, coupling degree, share]
+        self.crowded = [0, -1.0]
+
+    def model_ranges(self, K, models, estimates):
+        """Points where thin or dh was forced outside its accurate range (model table)."""
+        if estimates is None:
+            return
+        for name in ("thin", "dh"):
+            sel = np.asarray(models) == name
+            if not np.any(sel):
+                continue
+            spec = MODEL_TABLE[name]
+            bad = sel & (estimates[name] > spec.accurate_error)
+            if not np.any(bad):
+                continue
+            k = np.unravel_index(int(np.argmax(np.where(bad, estimates[name], -1.0))), bad.shape)
+            rec = self.ranges.setdefault(name, [0, -1.0, 0.0])
+            rec[0] += int(bad.sum())
+            if float(estimates[name][k]) > rec[1]:
+                rec[1:] = [float(estimates[name][k]), float(K[k])]
+
+    def results(self, part, cond, K):
+        """Impossible results and crowded walls among a chunk's compact results."""
+        M, carried = part["matrix"], part["carried"]
+        bad = ~_physical(M, carried)
+        if np.any(bad):
+            k = np.unravel_index(int(np.flatnonzero(bad)[0]), bad.shape)
+            if self.impossible is None:
+                q2 = M[k + (0, 1)] * M[k + (1, 0)] / (M[k + (0, 0)] * M[k + (1, 1)])
+                self.impossible = [0, MODEL_NAMES[int(part["model_code"][k])], float(K[k]),
+                                   float(q2), float(carried[k] / M[k + (1, 1)])]
+            self.impossible[0] += int(bad.sum())
+        cw = np.max(_wall_concentrations(cond, part["wall_potential"]), axis=0)
+        crowded = cw > CROWDING_LIMIT
+        if np.any(crowded):
+            self.crowded[0] += int(crowded.sum())
+            self.crowded[1] = max(self.crowded[1], float(np.max(cw[crowded])))
+
+    def say(self):
+        """Issue the warnings, each once for the whole batch."""
+        for name, (count, worst, K) in self.ranges.items():
+            spec = MODEL_TABLE[name]
+            warnings.warn(
+                f"model={name!r} is outside its range at {count} of {self.size} points "
+                f"({spec.accurate_range}); worst at kappa*half_size = {K:.3g}: "
+                f"estimated error {worst:.3g}, {worst / spec.accurate_error:.3g} times the "
+                f"{spec.accurate_error:g} limit; use model='auto' or 'pb'",
+                ModelRangeWarning, stacklevel=3)
+        if self.impossible is not None:
+            count, name, K, q2, share = self.impossible
+            warnings.warn(
+                f"{count} of {self.size} results are not physical (model {name!r} at "
+                f"kappa*half_size = {K:.3g}: coupling degree {q2:.3g}, counter-ion share "
+                f"{share:.3g}); the model is outside its range, use model='auto' or 'pb'. "
+                "Result.physical flags them.", ImpossibleResultWarning, stacklevel=3)
+        count, worst = self.crowded
+        if count:
+            warnings.warn(
+                f"counter-ions at the wall reach {worst / 1000:.3g} mol/L at {count} of "
+                f"{self.size} points, above {CROWDING_LIMIT / 1000:g} mol/L: steric (finite "
+                "ion size) effects, which the point-ion Poisson-Boltzmann model leaves out, "
+                "limit the crowding there; treat zeta and the conduction as upper estimates",
+                CrowdingWarning, stacklevel=3)
+
+
+def _physical(M, carried):
+    """Positive definite, counter-ion share in [0, 1], coupling degree at most 1."""
+    sym = 0.25 * (M[..., 0, 1] + M[..., 1, 0])**2
+    pd = (M[..., 0, 0] > 0) & (M[..., 1, 1] > 0) & (M[..., 0, 0] * M[..., 1, 1] > sym)
+    share = carried / M[..., 1, 1]
+    q2 = M[..., 0, 1] * M[..., 1, 0] / (M[..., 0, 0] * M[..., 1, 1])
+    eps = 1e-9
+    return pd & (share >= -eps) & (share <= 1 + eps) & (q2 <= 1)
+
+
+def _wall_concentrations(cond, wall_potential):
+    """c_i exp(-z_i e zeta/kT) [mol/m³], shape (n_ions, *shape)."""
+    phi = wall_potential / cond.thermal_voltage
+    return cond.concentrations * np.exp(np.minimum(-cond.z_b() * phi, 700.0))
+
+
+def _compact(channel, cond, out):
+    """What a Result keeps of a kernel's output (see RESULT_BYTES_PER_POINT)."""
+    shape = cond.shape
+    p_over_a = np.broadcast_to(channel.perimeter, shape) / np.broadcast_to(channel.area, shape)
+    stern = p_over_a * cond.stern_conductance
+    M = np.empty(shape + (2, 2))
+    M[..., 0, 0], M[..., 0, 1], M[..., 1, 0] = out["L11"], out["L12"], out["L21"]
+    M[..., 1, 1] = out["L22_migration"] + out["L22_convection"] + stern
+    check_finite_result("matrix", M)
+    wall_potential = np.asarray(out["wall_potential"])
+    # the current of the counter-ions (sign opposite to the wall potential;
+    # cations at zero potential), Stern conduction included
+    sgn = np.sign(wall_potential)
+    sgn = np.where(sgn == 0, -1.0, sgn)
+    counter = np.sign(cond.z_b()) == -sgn
+    carried = np.sum(np.where(counter, out["ion_current"], 0.0), axis=0) + stern
+    code = np.zeros(shape, dtype=np.uint8)
+    for i, name in enumerate(MODEL_NAMES):
+        code[np.asarray(out["model"]) == name] = i
+    part = {"matrix": M, "error": np.asarray(out["error"]), "wall_potential": wall_potential,
+            "wall_charge": np.asarray(out.get("wall_charge", np.full(shape, np.nan))),
+            "carried": carried, "model_code": code}
+    if _KEEP_PARTS:
+        part.update({k: np.asarray(out[k]) for k in ("L22_migration", "L22_convection",
+                                                      "ion_current")})
+    return part
+
+
+def _chunks(channel, cond):
+    """(channel, conditions, slice) of each chunk of flat points of a slit or
+    tube batch, or the whole batch at once."""
+    shape = cond.shape
+    B = int(np.prod(shape)) if shape else 1
+    if channel.kind not in ("slit", "tube") or B <= SOLVE_CHUNK:
+        yield channel, cond, None
+        return
+    for start in range(0, B, SOLVE_CHUNK):
+        sl = slice(start, min(B, start + SOLVE_CHUNK))
+        index = np.unravel_index(np.arange(sl.start, sl.stop), shape)
+
+        def take(a):
+            a = np.asarray(a)
+            lead = a.ndim - len(shape)
+            return a[(slice(None),) * lead + index]
+
+        part = replace(cond, shape=(sl.stop - sl.start,), **{
+            f.name: take(getattr(cond, f.name)) for f in fields(cond)
+            if isinstance(getattr(cond, f.name), np.ndarray) and f.name != "valences"})
+        piece = copy.copy(channel)
+        for name, value in vars(channel).items():
+            if isinstance(value, np.ndarray):
+                setattr(piece, name, np.broadcast_to(value, shape)[index])
+        yield piece, part, sl
 
 
 def _conditions(channel, electrolyte, wall):
@@ -195,36 +333,56 @@ def solve(channel, electrolyte, wall, model="auto", tol=0.01, accuracy=None,
     if time_budget is not None:
         time_budget = check_scalar("time_budget", time_budget, 0.1, 1e5)
     cond = _conditions(channel, electrolyte, wall)
-    K = cond.kappa * np.broadcast_to(channel.half_size, cond.shape)
-    check_range("kappa*half_size", K, 1e-3, 1e5,
-                hint="the channel is too narrow or too wide for the Debye length; change "
-                     "the size or the concentration")
     zmax = float(np.max(np.abs(cond.valences)))
-    if cond.wall_condition == "potential":
-        check_range("zeta", cond.wall_value, -PHI_MAX * cond.thermal_voltage.min() / zmax,
-                    PHI_MAX * cond.thermal_voltage.min() / zmax, unit="V",
-                    hint=f"|z e zeta/kT| must stay below {PHI_MAX:g}")
-    models, estimates = _models(channel, cond, model, tol)
-    out = channel._kernel(cond, models, {"accuracy": accuracy, "model_errors": estimates,
-                                         "time_budget": time_budget})
-    if cond.wall_condition != "potential":
-        # the same range for every model (model table): a linear (dh) wall
-        # potential of kilovolts is refused like a pb one
-        phi = np.abs(out["wall_potential"]) / cond.thermal_voltage * zmax
-        over = phi > PHI_MAX
-        if np.any(over):
-            bad = float(np.max(np.abs(out["wall_potential"])[over]))
-            name = str(_first(over, np.broadcast_to(out["model"], over.shape)))
-            what = ("the surface's sites give" if cond.wall_condition == "regulated"
-                    else "charge_density gives")
-            raise ValueError(f"{what} a wall potential of {bad:g} V under "
-                             f"model={name!r}, beyond the range |z e zeta/kT| <= {PHI_MAX:g} "
-                             "of every model; lower the charge or raise the concentration")
-    if model != "auto":
-        _warn_model_ranges(cond, channel.half_size, out["model"], estimates)
-    result = Result(channel, electrolyte, wall, cond, out, model, tol)
-    result._check()
-    return result
+    zeta_max = PHI_MAX * float(thermal_voltage(np.min(cond.temperature))) / zmax
+    for piece, part, _ in _chunks(channel, cond):     # every input checked before any work
+        K = part.kappa * np.broadcast_to(piece.half_size, part.shape)
+        check_range("kappa*half_size", K, 1e-3, 1e5,
+                    hint="the channel is too narrow or too wide for the Debye length; change "
+                         "the size or the concentration")
+        if cond.wall_condition == "potential":
+            check_range("zeta", part.wall_value, -zeta_max, zeta_max, unit="V",
+                        hint=f"|z e zeta/kT| must stay below {PHI_MAX:g}")
+    findings = _Findings(int(np.prod(cond.shape)))
+    store, profiles = None, None
+    for piece, part, sl in _chunks(channel, cond):
+        models, estimates = _models(piece, part, model, tol)
+        out = piece._kernel(part, models, {"accuracy": accuracy, "model_errors": estimates,
+                                           "time_budget": time_budget})
+        if cond.wall_condition != "potential":
+            # the same range for every model (model table): a linear (dh) wall
+            # potential of kilovolts is refused like a pb one
+            phi = np.abs(out["wall_potential"]) / part.thermal_voltage * zmax
+            over = phi > PHI_MAX
+            if np.any(over):
+                bad = float(np.max(np.abs(out["wall_potential"])[over]))
+                name = str(_first(over, np.broadcast_to(out["model"], over.shape)))
+                what = ("the surface's sites give" if cond.wall_condition == "regulated"
+                        else "charge_density gives")
+                raise ValueError(f"{what} a wall potential of {bad:g} V under "
+                                 f"model={name!r}, beyond the range |z e zeta/kT| <= "
+                                 f"{PHI_MAX:g} of every model; lower the charge or raise the "
+                                 "concentration")
+        K = part.kappa * np.broadcast_to(piece.half_size, part.shape)
+        if model != "auto":
+            findings.model_ranges(K, out["model"], estimates)
+        compact = _compact(piece, part, out)
+        findings.results(compact, part, K)
+        if sl is None:
+            store, profiles = compact, out["profiles"]
+        else:
+            if store is None:
+                store = {k: np.empty(v.shape[:-1] + cond.shape if k == "ion_current" else
+                                     cond.shape + v.shape[1:], dtype=v.dtype)
+                         for k, v in compact.items()}
+            for k, v in compact.items():
+                if k == "ion_current":
+                    store[k].reshape(v.shape[0], -1)[:, sl] = v
+                else:
+                    store[k].reshape((-1,) + v.shape[1:])[sl] = v
+        del out, models, estimates
+    findings.say()
+    return Result(channel, electrolyte, wall, cond, store, model, tol, profiles)
 
 
 class Result:
@@ -273,6 +431,15 @@ class Result:
 
     Notes
     -----
+    Memory: a result keeps ``RESULT_BYTES_PER_POINT`` (65) bytes a point (the
+    matrix, ``error_estimate``, ``wall_potential``, ``wall_charge``, the
+    counter-ion current and a model code) besides views of the inputs;
+    ``model``, ``debye_length``, ``kappa_size``, ``bulk_conductivity``, the
+    surface state and every derived quantity are computed on each access.
+    ``solve`` runs slit and tube batches in chunks of ``SOLVE_CHUNK`` points,
+    so its working memory above the result stays bounded at any batch size
+    (``benchmarks/bench_memory.py``).
+
     The coefficients, the derived quantities (``electroosmotic_mobility``,
     ``streaming_potential_coefficient``, ``dukhin``, ``coupling_degree``,
     ``max_efficiency``, ``counterion_share``, ...) and the whole-channel
@@ -291,47 +458,77 @@ class Result:
     True
     """
 
-    def __init__(self, channel, electrolyte, wall, conditions, out, model, tol):
+    def __init__(self, channel, electrolyte, wall, conditions, data, model, tol, profiles):
         self.channel, self.electrolyte, self.wall = channel, electrolyte, wall
         self.requested_model = model
         self.tol = tol
         self._cond = conditions
-        self._out = out
-        shape = conditions.shape
-        area = np.broadcast_to(channel.area, shape)
-        perim = np.broadcast_to(channel.perimeter, shape)
-        self._p_over_a = perim / area
-        stern = self._p_over_a * conditions.stern_conductance
-        L11 = out["L11"]
-        L12 = out["L12"]
-        L21 = out["L21"]
-        L22 = out["L22_migration"] + out["L22_convection"] + stern
-        M = np.empty(shape + (2, 2))
-        M[..., 0, 0], M[..., 0, 1], M[..., 1, 0], M[..., 1, 1] = L11, L12, L21, L22
-        self.matrix = check_finite_result("matrix", M)
-        self._stern = stern
-        self.model = np.asarray(out["model"])
-        self.error_estimate = np.asarray(out["error"])
+        self._profiles = profiles
+        self.matrix = data["matrix"]
+        self.error_estimate = data["error"]
+        self.wall_potential = data["wall_potential"]
+        self.wall_charge = data["wall_charge"]
+        self._carried = data["carried"]      # counter-ion current, Stern included [S/m]
+        self._model_code = data["model_code"]
+        self._parts = {k: data[k] for k in ("L22_migration", "L22_convection", "ion_current")
+                       if k in data}
         self.error_method = ERROR_METHOD if model == "auto" else (
             "Richardson difference of a two-grid solve" if model == "pb" else
             "none: closed form of the chosen model (see ekexplore.regimes for its range)")
         self.permittivity = conditions.permittivity
         self.viscosity = conditions.viscosity
         self.temperature = conditions.temperature
-        self.debye_length = 1.0 / conditions.kappa
-        self.kappa_size = conditions.kappa * np.broadcast_to(channel.half_size, shape)
-        self.wall_potential = np.asarray(out["wall_potential"])
-        self.wall_charge = np.asarray(out.get("wall_charge", np.full(shape, np.nan)))
-        self.bulk_conductivity = conditions.bulk_conductivity()
-        # a charge-regulating wall: the state of its sites at the solved zeta
-        self.surface_potential = np.full(shape, np.nan)
-        self.charged_fraction = np.full(shape, np.nan)
-        if conditions.wall.nonlinear:
-            b = conditions.flat(np.ones(shape))
-            phi0, frac = conditions.wall.surface_state(
-                b.scaled_value, self.wall_potential.reshape(-1) / b.VT)
-            self.surface_potential = (phi0 * b.VT).reshape(shape)
-            self.charged_fraction = np.asarray(frac).reshape(shape)
+
+    # -- computed on access (a result keeps RESULT_BYTES_PER_POINT bytes a point) --
+    @property
+    def model(self):
+        """Model used at each point ("thin", "dh" or "pb"), ndarray of str."""
+        return np.asarray(np.asarray(MODEL_NAMES)[self._model_code])
+
+    @property
+    def _shape(self):
+        return self._cond.shape
+
+    @property
+    def _p_over_a(self):
+        return (np.broadcast_to(self.channel.perimeter, self._shape)
+                / np.broadcast_to(self.channel.area, self._shape))
+
+    @property
+    def debye_length(self):
+        """Debye length [m]."""
+        return 1.0 / self._cond.kappa
+
+    @property
+    def kappa_size(self):
+        """kappa x half-size [-]."""
+        return self._cond.kappa * np.broadcast_to(self.channel.half_size, self._shape)
+
+    @property
+    def bulk_conductivity(self):
+        """Nernst–Einstein conductivity of the reservoir [S/m]."""
+        return self._cond.bulk_conductivity()
+
+    def _surface_state(self):
+        """Potential of the charged plane [V] and charged fraction of the sites
+        [-] of a charge-regulating wall at the solved zeta (NaN for other walls)."""
+        shape = self._shape
+        if not self._cond.wall.nonlinear:
+            return np.full(shape, np.nan), np.full(shape, np.nan)
+        b = self._cond.flat(np.ones(shape))
+        phi0, frac = self._cond.wall.surface_state(b.scaled_value,
+                                                    self.wall_potential.reshape(-1) / b.VT)
+        return (phi0 * b.VT).reshape(shape), np.asarray(frac).reshape(shape)
+
+    @property
+    def surface_potential(self):
+        """Potential of the charged plane of a charge-regulating wall [V] (NaN otherwise)."""
+        return self._surface_state()[0]
+
+    @property
+    def charged_fraction(self):
+        """Fraction of the sites that carry a charge, charge-regulating wall [-] (NaN otherwise)."""
+        return self._surface_state()[1]
 
     # -- the four coefficients -------------------------------------------------
     @property
@@ -415,46 +612,14 @@ class Result:
         """Ion concentrations at the wall, c_i exp(-z_i e zeta/kT) [mol/m³],
         shape (n_ions, ...) (Boltzmann; for dh the same formula is used,
         as an indication)."""
-        phi = self.wall_potential / self._cond.thermal_voltage
-        return self._cond.concentrations * np.exp(np.minimum(-self._cond.z_b() * phi, 700.0))
+        return _wall_concentrations(self._cond, self.wall_potential)
 
     @property
     def physical(self):
         """True where the matrix is positive definite, the counter-ion share in
         [0, 1] and the maximum efficiency at most 1 (False flags a model used
         outside its range; :class:`ImpossibleResultWarning` is issued too)."""
-        M = self.matrix
-        sym = 0.25 * (M[..., 0, 1] + M[..., 1, 0])**2
-        pd = (M[..., 0, 0] > 0) & (M[..., 1, 1] > 0) & (M[..., 0, 0] * M[..., 1, 1] > sym)
-        share = self.counterion_share
-        eps = 1e-9
-        return pd & (share >= -eps) & (share <= 1 + eps) & (self.coupling_degree <= 1)
-
-    def _check(self):
-        """Warn, naming the numbers, where a result is impossible or crowded."""
-        import warnings
-        ok = self.physical
-        if not np.all(ok):
-            bad = ~ok
-            k = np.unravel_index(int(np.flatnonzero(bad)[0]), bad.shape)
-            warnings.warn(
-                f"{int(bad.sum())} of {bad.size} results are not physical (model "
-                f"{str(self.model[k])!r} at kappa*half_size = {float(self.kappa_size[k]):.3g}: "
-                f"coupling degree {float(self.coupling_degree[k]):.3g}, counter-ion share "
-                f"{float(self.counterion_share[k]):.3g}); the model is outside its range, "
-                "use model='auto' or 'pb'. Result.physical flags them.",
-                ImpossibleResultWarning, stacklevel=3)
-        cw = np.max(self.wall_concentrations, axis=0)
-        crowded = cw > CROWDING_LIMIT
-        if np.any(crowded):
-            k = np.unravel_index(int(np.argmax(np.where(crowded, cw, -1.0))), crowded.shape)
-            warnings.warn(
-                f"counter-ions at the wall reach {float(cw[k]) / 1000:.3g} mol/L at "
-                f"{int(crowded.sum())} of {crowded.size} points, above "
-                f"{CROWDING_LIMIT / 1000:g} mol/L: steric (finite ion size) effects, which "
-                "the point-ion Poisson-Boltzmann model leaves out, limit the crowding there; "
-                "treat zeta and the conduction as upper estimates",
-                CrowdingWarning, stacklevel=3)
+        return _physical(self.matrix, self._carried)
 
     @property
     def coupling_degree(self):
@@ -480,12 +645,7 @@ class Result:
         flat-wall co-ion depletion can exceed the bulk below kappa*a of about
         2, outside its range, and then gives shares above 1.
         """
-        z = self._cond.z_b()
-        sgn = np.sign(self.wall_potential)
-        sgn = np.where(sgn == 0, -1.0, sgn)
-        counter = np.sign(z) == -sgn
-        carried = np.sum(np.where(counter, self._out["ion_current"], 0.0), axis=0) + self._stern
-        return carried / self.conductive
+        return self._carried / self.conductive
 
     # -- whole channel --------------------------------------------------------------
     def conductances(self, length):
@@ -521,7 +681,11 @@ class Result:
         """Profiles across the section for -dp/dx [Pa/m] and E [V/m]; see ``Profiles``."""
         G = check_scalar("pressure_gradient", pressure_gradient, -1e15, 1e15, unit="Pa/m")
         E = check_scalar("field", field, -1e9, 1e9, unit="V/m")
-        return self._out["profiles"](G, E)
+        if self._profiles is None:     # a slit or tube batch solved in chunks
+            from .kernels1d import profiles_1d
+            return profiles_1d({"slit": 0, "tube": 1}[self.channel.kind], self.channel.half_size,
+                               self._cond, self.model, self.wall_potential, G, E)
+        return self._profiles(G, E)
 
     def as_dict(self):
         """Flat dict of every coefficient and derived quantity (arrays of the input shape)."""

@@ -5,6 +5,7 @@ from numpy.testing import assert_allclose
 from scipy import constants, special
 
 import ekexplore as ek
+from ekexplore import transport
 
 VT25 = constants.k * 298.15 / constants.e
 MODELS = ("thin", "dh", "pb")
@@ -191,16 +192,19 @@ def test_asymmetric_and_mixed_electrolytes_run_in_every_model():
             assert float(r.reciprocity_residual) < 1e-8
 
 
-def test_ion_currents_of_a_wide_channel_are_the_bulk_ones():
+def test_ion_currents_of_a_wide_channel_are_the_bulk_ones(monkeypatch):
     # Far from the walls each ion carries its Nernst-Einstein share of the bulk
     # current, z_i^2 F^2 D_i c_i/(R T) (Kohlrausch's independent migration; common
     # practice); a 100 um tube at 16 mM adds a wall part of order P/(A kappa) ~ 1e-4.
     e = ek.Electrolyte(["Na+", "K+", "Cl-", "SO4^2-"], [5.0, 5.0, 6.0, 2.0])
     F = constants.physical_constants["Faraday constant"][0]
     lam = e.valences**2 * F**2 * e.diffusivities / (constants.R * 298.15) * e.concentrations
+    monkeypatch.setattr(transport, "_KEEP_PARTS", True)   # per-ion currents kept on the result
     for model in MODELS:
         r = ek.solve(ek.Tube(diameter=1e-4), e, ek.Wall(zeta=-0.03), model=model)
-        assert_allclose(r._out["ion_current"], lam, rtol=1e-3)
+        assert_allclose(r._parts["ion_current"], lam, rtol=1e-3)
+        # the public figure built from them: the cations' share of the current
+        assert_allclose(r.counterion_share, np.sum(lam[:2]) / np.sum(lam), rtol=1e-3)
 
 
 @pytest.mark.parametrize("m", [0, 1])

@@ -267,15 +267,22 @@ FIELDS = ("matrix", "L22_migration", "L22_convection", "ion_current", "wall_pote
 def _record(result):
     out = {f: np.asarray(getattr(result, f, None) if f in ("matrix", "wall_potential",
                                                             "wall_charge", "error_estimate")
-                         else result._out[f], dtype=float) for f in FIELDS}
+                         else result._parts[f], dtype=float) for f in FIELDS}
     out["model"] = np.asarray(result.model).astype(str)
     return out
 
 
 def _run(run):
+    # the kernel's parts of L22 and per-ion currents are kept on the result
+    # only when asked (they cost memory and no public figure needs them)
+    from ekexplore import transport
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        return run()
+        transport._KEEP_PARTS = True
+        try:
+            return run()
+        finally:
+            transport._KEEP_PARTS = False
 
 
 def record():

@@ -48,7 +48,11 @@ def _request(port, path, host=None, headers=None, method="GET", body=None, timeo
             chunks.append(chunk)
             if time.monotonic() > deadline:
                 raise TimeoutError(f"{method} {path} took longer than {timeout} s")
-        return resp.status, {k.lower(): v for k, v in resp.getheaders()}, b"".join(chunks)
+        headers = {k.lower(): v for k, v in resp.getheaders()}
+        cookies = resp.headers.get_all("Set-Cookie")
+        if cookies:   # every cookie set, one per line (a page sets login and XSRF cookies)
+            headers["set-cookie"] = "\n".join(cookies)
+        return resp.status, headers, b"".join(chunks)
     finally:
         conn.close()
 
@@ -109,6 +113,20 @@ def test_host_header_is_checked(server):
         assert _request(port, cli.PROBE_PATH, host=host)[0] == 200, host
 
 
+def _kernel_rss_mib(server_proc):
+    """Resident memory [MiB] of each kernel process under the server (Linux /proc)."""
+    import importlib.util
+    spec = importlib.util.spec_from_file_location(
+        "browser_conftest", Path(__file__).with_name("browser") / "conftest.py")
+    conf = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(conf)
+    out = []
+    for pid in conf.kernel_processes(server_proc):
+        with open(f"/proc/{pid}/status") as f:
+            out += [int(line.split()[1]) / 1024 for line in f if line.startswith("VmRSS")]
+    return out
+
+
 def _render(port, tok, cookie=None):
     headers = {"Cookie": cookie} if cookie else {}
     return _request(port, f"/voila/render/device.ipynb?token={tok}", headers=headers,
@@ -150,8 +168,14 @@ def test_kernel_cap_busy_page_and_culling_of_a_connected_idle_page(server):
     assert status == 200, body[:300]
     assert b"from ekexplore" not in body                       # sources stripped
     kernel_id = re.search(rb'"kernelId": "([0-9a-f-]{36})"', body).group(1).decode()
-    cookie = headers["set-cookie"].split(";", 1)[0]
+    cookie = re.search(r"username-[^=;\s]+=[^;\s]+", headers["set-cookie"]).group(0)
+    # the XSRF cookie that the page's closing request (kernel shutdown) needs
+    assert re.search(r"(^|\n)_xsrf=", headers["set-cookie"])
     assert _request(port, f"/api/kernels/{kernel_id}", headers={"Cookie": cookie})[0] == 200
+    # the stated memory bound holds for this page's kernel
+    rss = _kernel_rss_mib(server["proc"])
+    assert len(rss) == 1 and rss[0] <= cli.KERNEL_MIB, rss
+    print(f"\nrendered page's kernel: {rss[0]:.0f} MiB resident (bound {cli.KERNEL_MIB} MiB)")
     # cap of 1 reached: a second page gets the busy page, not a second kernel
     status, headers, body = _render(port, tok, cookie)
     assert status == 503
@@ -191,12 +215,27 @@ def test_allowed_hosts_and_host_parsing():
     (dict(max_kernels=0), "--max-kernels"),
     (dict(cull_idle=0), "--cull-idle"),
     (dict(cull_interval=700), "--cull-interval"),
+    (dict(cull_disconnected=0), "--cull-disconnected"),
 ])
 def test_unsafe_options_refused(kwargs, match):
     opts = dict(host="127.0.0.1", token=None, max_kernels=8, cull_idle=600, cull_interval=60)
     opts.update(kwargs)
     with pytest.raises(ValueError, match=match):
         cli.check_options(**opts)
+
+
+def test_help_states_the_total_memory_bound_of_the_kernels(capsys):
+    # each page's kernel (measured against a real server above) plus its 2D
+    # mesh cache, bounded in ekexplore.sections.meshes, times the kernel cap
+    from ekexplore.sections.meshes import MESH_CACHE_BYTES
+    assert cli.MESH_CACHE_MIB * 2**20 == MESH_CACHE_BYTES
+    assert cli.memory_bound_mib(8) == 8 * (cli.KERNEL_MIB + cli.MESH_CACHE_MIB)
+    with pytest.raises(SystemExit):
+        cli.main(["serve", "--help"])
+    text = " ".join(capsys.readouterr().out.split())
+    assert f"max-kernels x {cli.KERNEL_MIB + cli.MESH_CACHE_MIB} MiB" in text
+    assert f"about {8 * (cli.KERNEL_MIB + cli.MESH_CACHE_MIB) / 1024:.1f} GiB" in text
+    assert "--cull-disconnected" in text
 
 
 def test_non_loopback_address_warns_loudly_and_keeps_the_token(monkeypatch, capsys):

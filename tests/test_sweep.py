@@ -349,7 +349,34 @@ def test_time_limit_on_dask_threads(monkeypatch):
     (dict(time_limit="1"), "time_limit"),
     (dict(chunk_size=0), "chunk_size"),
     (dict(length=-1.0), "length"),
+    (dict(in_memory=False), "in_memory=False needs output"),
+    (dict(in_memory="no"), "in_memory"),
 ])
 def test_sweep_options_are_checked(kwargs, match):
     with pytest.raises(ValueError, match=match):
         ek.sweep(grid=GRID12, zeta=-0.04, **kwargs)
+
+
+def test_a_sweep_kept_only_in_its_file_writes_every_design(tmp_path):
+    # in_memory=False (bounded memory at any number of designs): nothing is
+    # returned, the file holds every design with the values of an in-memory
+    # sweep, failed rows are named, and a resume completes the same file
+    import pandas as pd
+    out = tmp_path / "run.csv"
+    with pytest.warns(sweep_module.SweepWarning, match=r"2 of 12 designs failed \(rows 5, 10\)"):
+        got = ek.sweep(table=BAD_TABLE, zeta=-0.05, chunk_size=4, progress=False, output=out,
+                       in_memory=False)
+    assert got is None
+    with pytest.warns(sweep_module.SweepWarning):
+        df = ek.sweep(table=BAD_TABLE, zeta=-0.05, chunk_size=4, progress=False)
+    plain = pd.read_csv(out, skiprows=1).sort_values("design").set_index("design")
+    assert list(plain.index) == list(range(12))
+    assert_allclose(plain.loc[GOOD_ROWS, "electroosmotic"], df.loc[GOOD_ROWS, "electroosmotic"],
+                    rtol=0)
+    assert plain.loc[[5, 10], "electroosmotic"].isna().all()
+    assert plain["error"][5].startswith("ValueError: gap = 2 m")
+    # resume of a finished file computes nothing and still names the failed rows
+    with pytest.warns(sweep_module.SweepWarning, match=r"rows 5, 10"):
+        assert ek.sweep(table=BAD_TABLE, zeta=-0.05, chunk_size=4, progress=False, output=out,
+                        in_memory=False, resume=True) is None
+    assert len(pd.read_csv(out, skiprows=1)) == 12

@@ -246,3 +246,59 @@ def test_pb_converges_over_the_whole_accepted_potential_range(salt, sign):
             assert np.isfinite(r.matrix).all()
         with pytest.raises(ValueError, match="zeta"):
             ek.solve(ek.Slit(gap), e, ek.Wall(zeta=sign * 15.6 * VT), model="pb")
+
+
+PUBLIC = ("matrix", "error_estimate", "wall_potential", "wall_charge", "model", "kappa_size",
+          "debye_length", "bulk_conductivity", "counterion_share", "physical", "dukhin",
+          "surface_conductance", "coupling_degree", "wall_concentrations", "surface_potential",
+          "charged_fraction")
+
+
+@pytest.mark.parametrize("model", ["thin", "dh", "pb", "auto"])
+@pytest.mark.parametrize("channel", ["slit", "tube"])
+@pytest.mark.parametrize("wall", ["zeta", "charge"])
+def test_a_batch_solved_in_chunks_is_the_batch_solved_at_once(monkeypatch, model, channel,
+                                                              wall):
+    # solve keeps its memory bounded by running slit and tube batches in
+    # chunks of flat points; chunk boundaries must not change a number, a
+    # warning count or the profiles (a 2D broadcast grid, 7-point chunks
+    # that cut its rows, mixed models under auto, points outside thin's range)
+    from ekexplore import transport
+    size = np.geomspace(3e-9, 3e-6, 6)[:, None]
+    value = (-np.geomspace(2e-3, 0.2, 5) if wall == "zeta" else -np.geomspace(1e-4, 0.05, 5))
+    ch = ek.Slit(gap=size) if channel == "slit" else ek.Tube(diameter=size)
+    e = ek.Electrolyte.salt("CaCl2", np.array([0.5, 5.0, 50.0, 100.0, 200.0]))
+    w = ek.Wall(zeta=value) if wall == "zeta" else ek.Wall(charge_density=value)
+
+    def run():
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            r = ek.solve(ch, e, w, model=model)
+        return r, sorted(str(c.message) for c in caught)
+
+    whole, said = run()
+    monkeypatch.setattr(transport, "SOLVE_CHUNK", 7)
+    chunked, said_chunked = run()
+    assert chunked._profiles is None and whole._profiles is not None   # both paths taken
+    assert said_chunked == said
+    for name in PUBLIC:
+        np.testing.assert_array_equal(getattr(chunked, name), getattr(whole, name),
+                                      err_msg=name)
+    pa, pb_ = whole.profiles(2e5, 1e4), chunked.profiles(2e5, 1e4)
+    for name in ("potential", "velocity"):
+        np.testing.assert_array_equal(getattr(pb_, name), getattr(pa, name), err_msg=name)
+
+
+def test_a_refused_point_in_a_later_chunk_is_named_before_any_work(monkeypatch):
+    from ekexplore import transport
+    monkeypatch.setattr(transport, "SOLVE_CHUNK", 4)
+    gap = np.full(20, 1e-6)
+    gap[17] = 1e-9                       # kappa*half_size = 5e-4 at 0.1 uM: below 1e-3
+    e = ek.Electrolyte.salt("KCl", 1e-4)
+
+    def no_work(*args):
+        raise AssertionError("a chunk was solved before every input was checked")
+
+    monkeypatch.setattr(transport, "_models", no_work)
+    with pytest.raises(ValueError, match="kappa\\*half_size = 0.000"):
+        ek.solve(ek.Slit(gap=gap), e, ek.Wall(zeta=-0.02))

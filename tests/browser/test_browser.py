@@ -307,8 +307,12 @@ def test_explorer_2d_section_fields(server, browser, artifacts):
         p.close()
 
 
-def test_closed_page_kernel_is_culled(browser):
-    """A closed page leaves its kernel idle; the server's culling removes it."""
+def test_a_closed_page_frees_its_kernel(browser):
+    """Leaving a page shuts its kernel at once (the page's closing request,
+    which the server refused without an XSRF cookie until it set one); a page
+    gone without that request (a context closed like a killed tab) loses its
+    kernel after --cull-disconnected. Idle culling is 600 s here, so neither
+    can be idle culling; the server's log says which path shut each kernel."""
     import importlib.util
     spec = importlib.util.spec_from_file_location(
         "browser_conftest", Path(__file__).with_name("conftest.py"))
@@ -316,12 +320,29 @@ def test_closed_page_kernel_is_culled(browser):
     spec.loader.exec_module(conf)
     if not Path("/proc/self/stat").exists():
         pytest.skip("needs Linux /proc to count kernel processes")
-    with conf.start_server("--cull-idle", "6", "--cull-interval", "2",
-                           log_name="serve-cull.log") as srv:
-        p = Page(browser, srv["base"] + "/voila/render/device.ipynb" + srv["q"])
+    log = ARTIFACTS / "serve-close.log"
+
+    def wait_gone(srv, seconds):
+        t0 = time.monotonic()
+        while time.monotonic() - t0 < seconds and conf.kernel_processes(srv["proc"]):
+            time.sleep(0.25)
+        return time.monotonic() - t0
+
+    with conf.start_server("--cull-idle", "600", "--cull-disconnected", "20",
+                           "--cull-interval", "2", log_name=log.name) as srv:
+        url = srv["base"] + "/voila/render/device.ipynb" + srv["q"]
+        p = Page(browser, url)
         assert len(conf.kernel_processes(srv["proc"])) == 1
+        p.page.goto("about:blank")                    # the user leaves the page
+        took = wait_gone(srv, 15)
+        assert conf.kernel_processes(srv["proc"]) == [], "leaving the page kept its kernel"
+        assert "no page connected" not in log.read_text()   # shut by the page's request
+        print(f"\nkernel shut {took:.1f} s after leaving the page")
         p.close()
-        deadline = time.monotonic() + 90
-        while time.monotonic() < deadline and conf.kernel_processes(srv["proc"]):
-            time.sleep(1)
-        assert conf.kernel_processes(srv["proc"]) == []
+        p = Page(browser, url)
+        assert len(conf.kernel_processes(srv["proc"])) == 1
+        p.close()                                     # gone without a closing request
+        took = wait_gone(srv, 120)
+        assert conf.kernel_processes(srv["proc"]) == [], "a vanished page kept its kernel"
+        assert "no page connected" in log.read_text()
+        print(f"kernel of a vanished page culled {took:.1f} s after it went")
