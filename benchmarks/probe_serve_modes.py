@@ -19,13 +19,14 @@ import json
 import os
 import re
 import secrets
-import signal
 import socket
 import subprocess
 import sys
 import time
 import uuid
 from pathlib import Path
+
+from ekexplore._serve import stop_process_group
 
 ROOT = Path(__file__).resolve().parents[1]
 PROBE = "/voila/templates/lab/static/voila.js"
@@ -121,11 +122,7 @@ def probe(name, cmd, env, port, token, render_path, cap_checked):
         else:
             row["2nd page at cap 1"] = "no cap setting (MappingKernelManager has none)"
     finally:
-        os.killpg(proc.pid, signal.SIGINT)
-        try:
-            proc.wait(timeout=20)
-        except subprocess.TimeoutExpired:
-            os.killpg(proc.pid, signal.SIGKILL)
+        stop_process_group(proc, timeout=20)
     return row
 
 

@@ -23,6 +23,7 @@ SIZE_MAX = 1e-2
 
 
 def _size(name, value):
+    """A channel dimension [m], checked against SIZE_MIN..SIZE_MAX (every shape)."""
     return check_range(name, value, SIZE_MIN, SIZE_MAX, unit="m",
                        hint="continuum electrokinetics needs sizes from 1 nm to 1 cm")
 

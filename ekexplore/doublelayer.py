@@ -224,6 +224,107 @@ def _initial_guess(grid, K, z, w, wall, value):
     return phi
 
 
+
+class _PBSystem:
+    """The discrete Poisson–Boltzmann system of a batch: residual, Jacobian,
+    free energy and the damped Newton step of :func:`solve_pb`.
+
+    Conservative finite volumes: residual F = L phi + K^2 V f(phi) + b, with
+    the wall's charge (and its slope) added at the wall node when the charge
+    follows the wall potential, or phi_w held fixed (Dirichlet).
+    """
+
+    def __init__(self, grid, K, z, w, wall, value):
+        B, n = grid.x.shape
+        self.m1 = grid.m + 1
+        self.z, self.w, self.wall, self.value = z, w, wall, value
+        self.c = grid.area / grid.dx                             # (B, n-1)
+        self.K2V = (K**2)[:, None] * grid.volume                 # (B, n)
+        self.dirichlet = wall.dirichlet
+        self.nonlinear = wall.nonlinear and not self.dirichlet
+        self.bvec = np.zeros((B, n))
+        if not self.dirichlet and not self.nonlinear:
+            self.bvec[:, 0] = self.m1 * value
+        self.lim = 2.0 * PB_PHI_CLIP / np.min(np.abs(z))
+        # parts of the Jacobian that do not change between Newton steps
+        self.dbase = np.zeros((B, n))
+        self.dbase[:, :-1] += self.c
+        self.dbase[:, 1:] += self.c
+        self.ebase = np.concatenate([-self.c, np.zeros((B, 1))], axis=1)  # last column: block gap
+        if self.dirichlet:
+            self.dbase[:, 0] = 1.0
+            self.ebase[:, 0] = 0.0
+        self._eflat = {B: self.ebase.ravel()[:-1]}   # active points only shrink: keyed by count
+
+    def energy(self, ph, idx):
+        """Discrete free energy of the points ``idx`` (convex in phi)."""
+        dphi = np.diff(ph, axis=1)
+        e = 0.5 * np.sum(self.c[idx] * dphi**2, axis=1) + np.sum(
+            self.K2V[idx] * _g(self.z, self.w[:, idx], ph), axis=1)
+        if self.nonlinear:   # - (m+1) int_0^phi_w s dphi
+            return e - self.m1 * self.wall.charge_energy(self.value[..., idx], ph[:, 0])
+        return e - np.sum(self.bvec[idx] * ph, axis=1)
+
+    def newton_update(self, ph, active):
+        """Newton update -J^-1 F of the ``active`` points at ``ph`` (one stacked
+        tridiagonal solve, LAPACK dptsv)."""
+        if active.size == self.c.shape[0]:
+            ca, K2Va, wa, ba, da = self.c, self.K2V, self.w, self.bvec, self.dbase
+        else:
+            ca, K2Va, wa, ba, da = (self.c[active], self.K2V[active], self.w[:, active],
+                                    self.bvec[active], self.dbase[active])
+        f, fp = _f(self.z, wa, ph)
+        # residual F = L phi + K^2 V f + b, and the diagonal of -J
+        F = _laplacian(ca, ph)
+        f *= K2Va
+        F += f
+        F += ba
+        fp *= K2Va
+        d = da - fp
+        if self.nonlinear:   # the wall charge at the current wall potential, and its slope
+            va = self.value[..., active]
+            F[:, 0] += self.m1 * self.wall.charge(va, ph[:, 0])
+            d[:, 0] -= self.m1 * self.wall.charge_slope(va, ph[:, 0])
+        if self.dirichlet:
+            d[:, 0] = 1.0
+            F[:, 0] = 0.0
+        eflat = self._eflat.get(active.size)
+        if eflat is None:
+            eflat = self._eflat[active.size] = self.ebase[active].ravel()[:-1]
+        _, _, delta, info = lapack.dptsv(d.ravel(), eflat, F.reshape(-1, 1),
+                                         overwrite_d=1, overwrite_b=1)
+        if info != 0:
+            raise ConvergenceError(f"tridiagonal solve failed (LAPACK info {info})")
+        return delta.reshape(ph.shape)
+
+    def damped_step(self, ph, delta, big, scale, active):
+        """The update capped at 4 (scaled units) and, far from the solution
+        (where a full Newton step may overshoot), halved until the convex
+        energy does not rise; returns (new potentials, step fraction t)."""
+        t = np.ones(len(active))
+        if np.all(scale == 1.0):
+            trial = ph + delta
+            step = delta
+        else:
+            step = delta * scale[:, None]
+            trial = ph + step
+        far = np.flatnonzero(big * scale > 0.25)
+        if far.size:
+            sub = active[far]
+            e0 = self.energy(ph[far], sub)
+            tf = np.ones(far.size)
+            for _ in range(30):
+                e1 = self.energy(trial[far], sub)
+                bad = e1 > e0 + 1e-12 * np.abs(e0) + 1e-300
+                if not np.any(bad):
+                    break
+                tf = np.where(bad, 0.5 * tf, tf)
+                trial[far] = ph[far] + tf[:, None] * step[far]
+            t[far] = tf
+            np.clip(trial, -self.lim, self.lim, out=trial)
+        return trial, t
+
+
 def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
     """Batched Newton solve of the scaled Poisson–Boltzmann equation.
 
@@ -270,88 +371,18 @@ def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
     """
     if isinstance(wall, str):
         wall = WALL_CONDITIONS[wall]
-    B, n = grid.x.shape
-    c = grid.area / grid.dx                                  # (B, n-1)
-    K2V = (K**2)[:, None] * grid.volume                      # (B, n)
-    bvec = np.zeros((B, n))
-    dirichlet = wall.dirichlet
-    nonlinear = wall.nonlinear and not dirichlet
-    if not dirichlet and not nonlinear:
-        bvec[:, 0] = (grid.m + 1) * value
+    pb = _PBSystem(grid, K, z, w, wall, value)
     phi = _initial_guess(grid, K, z, w, wall, value) if phi0 is None else phi0.copy()
-    if dirichlet:
+    if pb.dirichlet:
         phi[:, 0] = value
-
-    def energy(ph, idx):
-        dphi = np.diff(ph, axis=1)
-        e = 0.5 * np.sum(c[idx] * dphi**2, axis=1) + np.sum(K2V[idx] * _g(z, w[:, idx], ph),
-                                                              axis=1)
-        if nonlinear:   # - (m+1) int_0^phi_w s dphi
-            return e - (grid.m + 1) * wall.charge_energy(value[..., idx], ph[:, 0])
-        return e - np.sum(bvec[idx] * ph, axis=1)
-
-    lim = 2.0 * PB_PHI_CLIP / np.min(np.abs(z))
-    # parts of the Jacobian that do not change between Newton steps
-    dbase = np.zeros((B, n))
-    dbase[:, :-1] += c
-    dbase[:, 1:] += c
-    ebase = np.concatenate([-c, np.zeros((B, 1))], axis=1)   # (B, n), last column: block gap
-    if dirichlet:
-        dbase[:, 0] = 1.0
-        ebase[:, 0] = 0.0
+    B = phi.shape[0]
     active = np.arange(B)
-    eflat = ebase.ravel()[:-1]
     for it in range(max_iter):
-        if active.size == B:  # no copies while every point iterates
-            ph, ca, K2Va, wa, ba, da = phi, c, K2V, w, bvec, dbase
-        else:
-            ph, ca, K2Va, wa, ba, da = (phi[active], c[active], K2V[active], w[:, active],
-                                        bvec[active], dbase[active])
-        f, fp = _f(z, wa, ph)
-        # residual F = L phi + K^2 V f + b, and the diagonal of -J
-        F = _laplacian(ca, ph)
-        f *= K2Va
-        F += f
-        F += ba
-        fp *= K2Va
-        d = da - fp
-        if nonlinear:   # the wall charge at the current wall potential, and its slope
-            va = value[..., active]
-            F[:, 0] += (grid.m + 1) * wall.charge(va, ph[:, 0])
-            d[:, 0] -= (grid.m + 1) * wall.charge_slope(va, ph[:, 0])
-        if dirichlet:
-            d[:, 0] = 1.0
-            F[:, 0] = 0.0
-        _, _, delta, info = lapack.dptsv(d.ravel(), eflat, F.reshape(-1, 1),
-                                         overwrite_d=1, overwrite_b=1)
-        if info != 0:
-            raise ConvergenceError(f"tridiagonal solve failed (LAPACK info {info})")
-        delta = delta.reshape(ph.shape)
+        ph = phi if active.size == B else phi[active]   # no copies while every point iterates
+        delta = pb.newton_update(ph, active)
         big = np.max(np.abs(delta), axis=1)
         scale = np.minimum(1.0, 4.0 / np.maximum(big, 1e-300))
-        t = np.ones(len(active))
-        if np.all(scale == 1.0):
-            trial = ph + delta
-            step = delta
-        else:
-            step = delta * scale[:, None]
-            trial = ph + step
-        # backtracking on the convex energy; only far from the solution, where
-        # a full Newton step may overshoot (near it the step is accepted)
-        far = np.flatnonzero(big * scale > 0.25)
-        if far.size:
-            sub = active[far]
-            e0 = energy(ph[far], sub)
-            tf = np.ones(far.size)
-            for _ in range(30):
-                e1 = energy(trial[far], sub)
-                bad = e1 > e0 + 1e-12 * np.abs(e0) + 1e-300
-                if not np.any(bad):
-                    break
-                tf = np.where(bad, 0.5 * tf, tf)
-                trial[far] = ph[far] + tf[:, None] * step[far]
-            t[far] = tf
-            np.clip(trial, -lim, lim, out=trial)
+        trial, t = pb.damped_step(ph, delta, big, scale, active)
         if active.size == B:
             phi = trial
         else:
@@ -364,7 +395,6 @@ def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
             active = active[~done]
             if active.size == 0:
                 return phi
-            eflat = ebase[active].ravel()[:-1]
     raise ConvergenceError(
         f"Poisson-Boltzmann solver did not converge in {max_iter} Newton steps for "
         f"{active.size} of {B} points (e.g. point {int(active[0])})")

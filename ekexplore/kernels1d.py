@@ -8,7 +8,9 @@ which the 2D sections share:
 ``dh``    Debye–Hückel closed forms (Rice & Whitehead 1965 for the tube, the
           cosh solution for the slit), conduction to second order in zeta.
 ``pb``    the nonlinear Poisson–Boltzmann equation, solved in batch on a
-          wall-resolving grid, two grids combined by Richardson extrapolation.
+          wall-resolving grid, two grids combined by Richardson extrapolation;
+          the error estimate is that of the extrapolated value, from two
+          further, coarser grids.
 
 In scaled form L11 is a number times R²/eta, L12 and L21 numbers times
 eps V_T/eta, with V_T = kT/e.
@@ -21,7 +23,7 @@ from scipy import special
 from .coefficients import coefficients, dh_means, neutrality_charge, thin_means
 from .doublelayer import (CHARGE_NEWTON_TOL, PB_PHI_MAX, gouy_chapman_length, gouy_chapman_potential, make_grid,
                           solve_pb, wall_potential_estimate)
-from .models import MODEL_NAMES
+from .models import MODEL_NAMES, MODEL_TABLE
 from .profiles import Profiles
 from .wall import isolated_wall_charge, isolated_wall_potential
 
@@ -238,9 +240,54 @@ def _refine_guess(phi_c, shape):
     return guess
 
 
-def _rich(c, f):
-    """Richardson extrapolation of second-order values on grids n and 2n."""
-    return (4.0 * f - c) / 3.0
+def _rich(c, f, ratio=2.0):
+    """Richardson extrapolation of second-order values on grids with n and
+    ``ratio`` x n cells."""
+    r2 = ratio * ratio
+    return (r2 * f - c) / (r2 - 1.0)
+
+
+#: Coarse-grid ratios n/n0 of the two extra grids of the pb error estimate.
+PB_ERROR_RATIOS = (2.0 ** 0.5, 2.0)
+#: Safety factor of the pb error estimate over the asymptotic error of the
+#: extrapolated value (see :func:`_pb_error`); its measured reason is in the
+#: model table (``ekexplore.models.MODEL_TABLE["pb"].safety``).
+PB_ERROR_SAFETY = MODEL_TABLE["pb"].safety["pb"][0]
+
+
+def _pb_coefficients(b, s):
+    """L12, L21 and L22 (migration + convection) [SI] of one grid's scaled means."""
+    co = coefficients(b, s["l12"], s["l21"], s["mean_c"], s["conv_excess"])
+    return np.stack([co["L12"], co["L21"], np.sum(co["migration"] + co["convection"], axis=0)])
+
+
+def _pb_error(c0, c1, c2, ratio0):
+    """Estimated relative error of the extrapolation of grids n and 2n.
+
+    ``c0``, ``c1``, ``c2`` (3, B) are the coefficients on grids with n0 =
+    n/ratio0, n and 2n cells. With values c(h) = c + a h^2 + b h^4, the
+    extrapolation of grids (h1, h1/2) errs by -b h1^4/4 and that of
+    (ratio0 h1, h1) by -b ratio0^2 h1^4, so the difference of the two
+    extrapolations is (4 ratio0^2 - 1) times the error of the finer one
+    (15 for ratio0 = 2). The estimate is that, times ``PB_ERROR_SAFETY``, the
+    largest over the coefficients relative to each.
+    """
+    fine = _rich(c1, c2)
+    coarse = _rich(c0, c1, ratio0)
+    scale = np.abs(fine)
+    rel = PB_ERROR_SAFETY * np.abs(fine - coarse) / (4.0 * ratio0**2 - 1.0) / np.where(
+        scale > 0, scale, 1.0)
+    return np.max(np.where(scale > 0, rel, 0.0), axis=0)
+
+
+def _resample(phi, n_cells):
+    """Linear interpolation of nodal values (B, n+1) in the uniform mapped
+    coordinate onto a grid with ``n_cells`` cells: a start for Newton there."""
+    n = phi.shape[1] - 1
+    t = np.arange(n_cells + 1) * (n / n_cells)
+    j = np.minimum(t.astype(int), n - 1)
+    f = t - j
+    return phi[:, j] * (1.0 - f) + phi[:, j + 1] * f
 
 
 def _pb_group(b, m, x0, n):
@@ -257,18 +304,18 @@ def _pb_group(b, m, x0, n):
         b, means["mean_f"], b.length / (m + 1))
     if b.wall.nonlinear:   # the sites' charge at the extrapolated zeta
         sigma = _wall_charge(b, phi_w)
-    # error estimate: Richardson difference of the two grids, the largest over
-    # the coefficients (it bounds the error of the fine grid; the extrapolated
-    # value is better still)
-    lam_c = b.molar_conductivity * b.c
-    mig_c = np.sum(lam_c * sc["mean_c"], axis=0)
-    mig_f = np.sum(lam_c * sf["mean_c"], axis=0)
-    lc = np.stack([sc["l12"], sc["l21"]])
-    lf = np.stack([sf["l12"], sf["l21"]])
-    diffs = np.vstack([np.abs(lf - lc), np.abs(mig_f - mig_c)[None]]) / 3.0
-    scales = np.vstack([np.abs(lf), np.abs(mig_f)[None]])
-    err = np.max(diffs / np.maximum(scales, 1e-300), axis=0)
-    err = np.where(np.abs(phi_w) > 0, err, np.abs(mig_f - mig_c) / 3.0 / mig_f)
+    # error estimate of the extrapolated value: two coarser grids (n/sqrt(2)
+    # and n/2 cells, started from the solution on n cells) give two more
+    # extrapolations; see _pb_error
+    cs, cf = _pb_coefficients(b, sc), _pb_coefficients(b, sf)
+    err = np.zeros(b.B)
+    for ratio in PB_ERROR_RATIOS:
+        n0 = int(round(n / ratio))
+        grid = make_grid(m, x0, n0)
+        phi_0 = solve_pb(grid, b.K, b.z, b.weights, b.wall, b.scaled_value,
+                         phi0=_resample(phi_c, n0), tol=tol)
+        err = np.maximum(err, _pb_error(_pb_coefficients(b, _pb_scaled(b, grid, phi_0)),
+                                        cs, cf, n / n0))
     return _assemble(b, m, means, phi_w, sigma, err, "pb")
 
 

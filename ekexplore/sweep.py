@@ -28,22 +28,17 @@ from .channels import SHAPES
 from .chemistry import BUFFERS
 from .electrolyte import SALTS, Electrolyte
 from .models import MODEL_CHOICES
-from .transport import solve
+from .transport import CONDUCTANCE_UNITS, RESULT_NAMES, RESULT_UNITS, solve
 from .wall import Wall
 
 __all__ = ["sweep", "design_table", "read_sweep", "SweepError", "SweepWarning"]
 
 _ELECTROLYTE_KEYS = ("concentration", "temperature", "pH")
 _WALL_KEYS = ("zeta", "charge_density", "stern_conductance")
-_RESULT_KEYS = ("hydraulic", "electroosmotic", "streaming", "conductive",
-                "reciprocity_residual", "streaming_potential_coefficient",
-                "electroviscous_ratio", "dukhin", "coupling_degree", "max_efficiency",
-                "counterion_share", "kappa_size", "debye_length", "wall_potential",
-                "wall_charge", "bulk_conductivity", "error_estimate", "model")
+_RESULT_KEYS = RESULT_NAMES
 #: Results added for walls whose charge follows the chemistry.
 _SURFACE_KEYS = ("charged_fraction", "surface_potential")
-_CONDUCTANCE_KEYS = ("flow_per_pressure", "flow_per_volt", "current_per_pressure",
-                     "conductance")
+_CONDUCTANCE_KEYS = tuple(CONDUCTANCE_UNITS)
 #: First characters of the metadata line of a sweep file.
 FILE_TAG = "# ekexplore sweep "
 _FILE_VERSION = 1
@@ -632,12 +627,9 @@ def sweep(grid=None, table=None, shape="Slit", salt="KCl", model="auto", tol=0.0
         frame[k] = frame[k].astype(object).where(frame[k].notna(), None)
     failed = [int(i) for i in frame.index[frame["error"].notna()]]
     frame.attrs["failed"] = failed
-    frame.attrs["units"] = {"hydraulic": "m^2/(Pa s)", "electroosmotic": "m^2/(V s)",
-                            "streaming": "A/(Pa m)", "conductive": "S/m",
-                            "streaming_potential_coefficient": "V/Pa", "debye_length": "m",
-                            "wall_potential": "V", "wall_charge": "C/m^2",
-                            "bulk_conductivity": "S/m", "surface_potential": "V",
-                            "charged_fraction": "-"}
+    frame.attrs["units"] = {k: u for k, u in {**RESULT_UNITS, **CONDUCTANCE_UNITS}.items()
+                            if u != "-"}
+    frame.attrs["units"].update(surface_potential="V", charged_fraction="-")
     if failed:
         shown = ", ".join(str(i) for i in failed[:10]) + (", ..." if len(failed) > 10 else "")
         first = frame["error"][failed[0]]

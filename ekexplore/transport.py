@@ -51,6 +51,23 @@ RESULT_BYTES_PER_POINT = 65
 #: bytes a point for k ions and no public figure needs them.
 _KEEP_PARTS = False
 
+#: The per-point results of :class:`Result` that tables list (``Result.as_dict``,
+#: the columns of ``sweep``), in table order, with their units ("-": none).
+RESULT_UNITS = {
+    "hydraulic": "m^2/(Pa s)", "electroosmotic": "m^2/(V s)", "streaming": "A/(Pa m)",
+    "conductive": "S/m", "reciprocity_residual": "-", "streaming_potential_coefficient": "V/Pa",
+    "electroviscous_ratio": "-", "dukhin": "-", "coupling_degree": "-", "max_efficiency": "-",
+    "counterion_share": "-", "kappa_size": "-", "debye_length": "m", "wall_potential": "V",
+    "wall_charge": "C/m^2", "bulk_conductivity": "S/m", "error_estimate": "-", "model": "-",
+}
+#: Their names, in table order.
+RESULT_NAMES = tuple(RESULT_UNITS)
+#: The properties of the liquid on a :class:`Result`, with units.
+MEDIUM_UNITS = {"permittivity": "F/m", "viscosity": "Pa s", "temperature": "K"}
+#: The whole-channel figures of :meth:`Result.conductances`, with units.
+CONDUCTANCE_UNITS = {"flow_per_pressure": "m^3/(s Pa)", "flow_per_volt": "m^3/(s V)",
+                     "current_per_pressure": "A/Pa", "conductance": "S"}
+
 
 class ModelRangeWarning(UserWarning):
     """A model was forced outside the range where it is accurate."""
@@ -473,7 +490,8 @@ class Result:
         self._parts = {k: data[k] for k in ("L22_migration", "L22_convection", "ion_current")
                        if k in data}
         self.error_method = ERROR_METHOD if model == "auto" else (
-            "Richardson difference of a two-grid solve" if model == "pb" else
+            "error of the Richardson-extrapolated value, from extra coarser grids (1D) or "
+            "levels (2D)" if model == "pb" else
             "none: closed form of the chosen model (see ekexplore.regimes for its range)")
         self.permittivity = conditions.permittivity
         self.viscosity = conditions.viscosity
@@ -688,13 +706,9 @@ class Result:
         return self._profiles(G, E)
 
     def as_dict(self):
-        """Flat dict of every coefficient and derived quantity (arrays of the input shape)."""
-        names = ("hydraulic", "electroosmotic", "streaming", "conductive", "reciprocity_residual",
-                 "streaming_potential_coefficient", "electroviscous_ratio", "dukhin",
-                 "coupling_degree", "max_efficiency", "counterion_share", "kappa_size",
-                 "debye_length", "wall_potential", "wall_charge", "bulk_conductivity",
-                 "permittivity", "viscosity", "temperature", "error_estimate", "model")
-        return {n: getattr(self, n) for n in names}
+        """Flat dict of every coefficient and derived quantity (arrays of the input
+        shape): the names of :data:`RESULT_NAMES` and of :data:`MEDIUM_UNITS`."""
+        return {n: getattr(self, n) for n in RESULT_NAMES + tuple(MEDIUM_UNITS)}
 
     def __repr__(self):
         return (f"Result(shape={self.matrix.shape[:-2]}, model={self.requested_model!r}, "

@@ -248,3 +248,192 @@ def test_constant_charge_reciprocity_at_strongly_charged_thin_layers(shape):
     h = 2 * K * float(e.debye_length)
     r = ek.solve(shape(h), e, ek.Wall(charge_density=-1.0), model="pb")
     assert np.max(r.reciprocity_residual) < 1e-10
+
+
+# ---------------------------------------------------------------------------
+# pb: the error estimate describes the value returned (the extrapolated one)
+# ---------------------------------------------------------------------------
+from scipy import integrate, optimize  # noqa: E402
+
+from ekexplore.transport import CrowdingWarning  # noqa: E402
+
+
+def _means_functions(z):
+    """The functionals of phi whose area means give the coefficients of a slit or
+    tube in equilibrium with its reservoir: <phi>, and per ion <exp(-z phi)>
+    (migration) and <(exp(-z phi) - 1) phi> (with the former, the convection of
+    the ion's excess by the electro-osmotic flow, whose profile is phi - phi_w in 1D)."""
+    fs = [lambda p: p]
+    for zi in z:
+        fs.append(lambda p, zi=zi: np.exp(-zi * p))
+        fs.append(lambda p, zi=zi: np.expm1(-zi * p) * p)
+    return fs
+
+
+def _coefficients_from_means(e, means, phi_w):
+    """L12 = L21 and L22 [SI] from the means of :func:`_means_functions`.
+
+    L12 = (eps kT/(e eta)) (<phi> - phi_w) (Helmholtz-Smoluchowski's electro-osmosis
+    with the Poisson equation, integrated over the section; L21 = L12 by Onsager
+    (1931), Phys. Rev. 37, 405, doi:10.1103/PhysRev.37.405); L22 = sum_i
+    z_i^2 F^2 D_i c_i <c_i/c_i,b>/(RT) + sum_i z_i F c_i (eps kT/(e eta))
+    <(c_i/c_i,b - 1)(phi - phi_w)> (Nernst-Planck migration with the
+    Nernst-Einstein mobility and convection at the electro-osmotic velocity; e.g.
+    Masliyah & Bhattacharjee (2006), Electrokinetic and Colloid Transport
+    Phenomena, Wiley, ch. 7)."""
+    F, R = constants.physical_constants["Faraday constant"][0], constants.R
+    T = float(e.temperature)
+    unit = float(e.permittivity) * constants.k * T / constants.e / float(e.viscosity)
+    z = e.valences
+    c = np.asarray(e.concentrations, dtype=float).ravel()
+    D = np.asarray(e.diffusivities, dtype=float).ravel()
+    L12 = unit * (means[0] - phi_w)
+    L22 = 0.0
+    for i in range(len(z)):
+        L22 += z[i]**2 * F**2 * D[i] * c[i] * means[1 + 2 * i] / (R * T)
+        excess_convection = means[2 + 2 * i] - phi_w * (means[1 + 2 * i] - 1.0)
+        L22 += z[i] * F * c[i] * unit * excess_convection
+    return np.array([L12, L12, L22])
+
+
+def gouy_chapman_slit_means(K, phi_w, zc, functions):
+    """Means over a wide slit of F(phi) for a z:z salt, from the Gouy-Chapman
+    profile of each wall (Gouy (1910), J. Phys. Theor. Appl. 9, 457,
+    doi:10.1051/jphystap:019100090045700; Chapman (1913), Phil. Mag. 25, 475,
+    doi:10.1080/14786440408634187; closed form in Hunter (1981), Zeta Potential in
+    Colloid Science, Academic Press, ch. 2): tanh(z phi/4) = tanh(z phi_w/4)
+    exp(-kappa x). With u = tanh(z phi/4), kappa dx = -du/u, so
+    <F> = F(0) + (1/K) int_0^gamma (F(phi(u)) - F(0)) du/u, gamma = tanh(z phi_w/4);
+    the overlap of the two walls changes this by about exp(-K) (below 1e-17 for
+    K >= 40)."""
+    gamma = np.tanh(zc * phi_w / 4.0)
+    out = []
+    for F in functions:
+        F0 = F(0.0)
+
+        def integrand(u):
+            if u == 0.0:
+                return 0.0
+            return (F(4.0 / zc * np.arctanh(u)) - F0) / u
+        val = integrate.quad(integrand, 0.0, gamma, epsabs=0, epsrel=1e-13, limit=1000)[0]
+        out.append(F0 + val / K)
+    return np.array(out)
+
+
+def bvp_means(m, K, z, w, wall, value, functions):
+    """Means over a slit (m = 0) or tube (m = 1) of F(phi) and the wall potential,
+    from scipy's collocation solver solve_bvp at tolerance 1e-9 (Kierzenka &
+    Shampine (2001), ACM Trans. Math. Softw. 27, 299, doi:10.1145/502800.502801):
+    phi'' + (m/s) phi' = -K^2 sum_i z_i w_i exp(-z_i phi), phi'(0) = 0 and
+    phi(1) = phi_w or phi'(1) = sigma R e/(eps kT), with the means carried as extra
+    unknowns I_k' = (m+1) s^m F_k(phi), I_k(0) = 0."""
+    from scipy.integrate import solve_bvp
+    z, w = np.asarray(z, float), np.asarray(w, float)
+    nf = len(functions)
+
+    def rhs(s, y):
+        rho = np.sum((z * w)[:, None] * np.exp(-z[:, None] * y[0][None]), axis=0)
+        extra = [(m + 1) * s**m * F(y[0]) for F in functions]
+        return np.vstack([y[1], -K**2 * rho] + extra)
+
+    def bc(ya, yb):
+        wall_bc = yb[0] - value if wall == "potential" else yb[1] - value
+        return np.array([ya[1], wall_bc] + [ya[2 + k] for k in range(nf)])
+
+    x0 = 0.02 * min(1.0, 1.0 / K)
+    x = x0 * np.expm1(np.log1p(1.0 / x0) * np.linspace(0, 1, 600))
+    s = np.unique(np.clip(1.0 - x, 0.0, 1.0))
+    phi_start = value if wall == "potential" else -2.0
+    t = np.tanh(phi_start / 4) * np.exp(-K * (1 - s))
+    y0 = np.vstack([4 * np.arctanh(t), 2 * K * np.sinh(2 * np.arctanh(t))]
+                   + [np.zeros_like(s)] * nf)
+    S = np.zeros((2 + nf, 2 + nf))
+    S[1, 1] = -float(m)
+    sol = solve_bvp(rhs, bc, s, y0, S=S if m else None, tol=1e-9, max_nodes=500000,
+                    bc_tol=1e-13)
+    assert sol.success, sol.message
+    return sol.y[2:, -1], sol.y[0, -1]
+
+
+def _pb_point(shape, e, wall_kw, K):
+    half = K * float(e.debye_length)
+    ch = ek.Slit(gap=2 * half) if shape == "slit" else ek.Tube(diameter=2 * half)
+    import warnings
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", CrowdingWarning)   # crowding is not the point here
+        r = ek.solve(ch, e, ek.Wall(**wall_kw), model="pb")
+    return r.matrix[[0, 1, 1], [1, 0, 1]], float(r.error_estimate), float(r.wall_potential)
+
+
+def _check_ratios(ratios):
+    # an upper bound everywhere; within 10x of the true error at most points
+    # (a few points sit where the true error changes sign between grids)
+    ratios = np.asarray(ratios)
+    assert np.all(ratios >= 1.0), ratios
+    assert np.mean(ratios <= 10.0) >= 0.8, ratios
+    assert 1.5 <= np.median(ratios) <= 10.0, ratios
+
+
+def test_pb_estimate_describes_the_extrapolated_value_in_wide_slits():
+    # The pb result is the Richardson extrapolation of two grids; its error estimate
+    # must bound the error of that value (not of the finer grid, about 1e4 times
+    # larger) and stay within about 10x of it. Reference: the Gouy-Chapman profile
+    # of each wall (gouy_chapman_slit_means, sources there), z:z salts, kappa a
+    # 40-1e5, |z e zeta/kT| 0.01-20 (the validated range).
+    rng = np.random.default_rng(10)
+    ratios = []
+    for salt in ("KCl", "MgSO4"):
+        e = ek.Electrolyte.salt(salt, 100.0, mobility="ideal")
+        z = e.valences
+        zc = abs(z[0])
+        for _ in range(6):
+            K = 10 ** rng.uniform(np.log10(40.0), 5.0)
+            phi = rng.choice([-1, 1]) * 10 ** rng.uniform(-2, np.log10(20.0)) / zc
+            M, est, _ = _pb_point("slit", e, {"zeta": phi * VT25}, K)
+            ref = _coefficients_from_means(
+                e, gouy_chapman_slit_means(K, phi, zc, _means_functions(z)), phi)
+            true = np.max(np.abs(M / ref - 1))
+            assert true < 1e-6
+            if true > 1e-11:   # above the round-off of the coefficients
+                ratios.append(est / true)
+    assert len(ratios) >= 8
+    _check_ratios(ratios)
+
+
+@pytest.mark.parametrize("shape", ["slit", "tube"])
+@pytest.mark.parametrize("wall", ["potential", "charge"])
+def test_pb_estimate_describes_the_extrapolated_value_against_solve_bvp(shape, wall):
+    # Same for overlapping and intermediate layers, slit and tube, both wall
+    # conditions, a 1:1 and a 2:1 salt, kappa a 0.01-10, |z e zeta/kT| up to 6:
+    # reference bvp_means (solve_bvp at 1e-9; against the first integral of the
+    # slit it agreed to 1e-12 or better at kappa a 1-10, 1e-10 at 0.01).
+    rng = np.random.default_rng({"slit": 1, "tube": 2}[shape] + {"potential": 0, "charge": 10}[wall])
+    m = 0 if shape == "slit" else 1
+    ratios = []
+    for salt in ("KCl", "CaCl2"):
+        e = ek.Electrolyte.salt(salt, 1e-3, mobility="ideal")
+        z = e.valences
+        c = np.asarray(e.concentrations, dtype=float).ravel()
+        w = c / np.sum(z**2 * c)
+        zc = float(np.max(np.abs(z)))
+        for _ in range(3):
+            K = 10 ** rng.uniform(-2, 1)
+            phi = -10 ** rng.uniform(-2, np.log10(6.0)) / zc
+            if wall == "potential":
+                kw, value = {"zeta": phi * VT25}, phi
+            else:
+                sigma = float(ek.grahame_charge(e, phi * VT25))
+                kw = {"charge_density": sigma}
+                half = K * float(e.debye_length)
+                value = sigma * half * constants.e / (float(e.permittivity)
+                                                      * constants.k * float(e.temperature))
+            M, est, zeta = _pb_point(shape, e, kw, K)
+            means, phi_w = bvp_means(m, K, z, w, wall, value, _means_functions(z))
+            ref = _coefficients_from_means(e, means, phi_w)
+            true = np.max(np.abs(M / ref - 1))
+            assert true < 1e-6
+            if true > 1e-10:   # above the reference's own error
+                ratios.append(est / true)
+    assert len(ratios) >= 4
+    assert np.all(np.asarray(ratios) >= 1.0), ratios
+    assert np.median(ratios) <= 10.0, ratios

@@ -1,5 +1,7 @@
 """The model table, its error estimates and the auto choice: the estimates must not
 undershoot the real error, in slits, tubes and 2D sections."""
+import zlib
+
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
@@ -51,7 +53,8 @@ def test_results_carry_an_upper_bound_of_their_error(salt, shape, condition):
     # 1e-3 to 1e5, |z e zeta/kT| up to 20 or the charge that gives it) it must
     # bound the true error against the full Poisson-Boltzmann solution (validated
     # against the first-integral quadrature in test_doublelayer.py).
-    rng = np.random.default_rng(abs(hash((salt, shape.__name__, condition))) % 2**32)
+    # a seed that is the same in every run (hash() of strings is salted per process)
+    rng = np.random.default_rng(zlib.crc32(f"{salt}|{shape.__name__}|{condition}".encode()))
     n = 150
     e = ek.Electrolyte.salt(salt, 1.0)
     zmax = np.max(np.abs(e.valences))
@@ -69,6 +72,13 @@ def test_results_carry_an_upper_bound_of_their_error(salt, shape, condition):
         err = np.max(np.abs(M - Mp) / np.abs(Mp), axis=(-2, -1))
         meaningful = err > 1e-5   # below that the pb reference's own error matters
         assert np.all(est[meaningful] >= err[meaningful]), model
+        # and honest the other way: within 10x of the true error at most points
+        # (measured on 3,600 points: thin 96-99 %, dh 72-100 % per salt, shape and
+        # wall; median ratio 1.5-2.5 over both signs of zeta, up to 7 for Na2SO4 at
+        # negative zeta, where the divalent co-ion sets Phi in the estimate)
+        ratio = est[meaningful] / err[meaningful]
+        assert np.mean(ratio <= 10.0) >= 0.5, (model, np.quantile(ratio, [0.5, 0.9]))
+        assert np.median(ratio) <= 10.0, (model, np.median(ratio))
 
 
 @pytest.mark.parametrize("tol", [0.1, 0.01, 1e-3])
@@ -137,3 +147,32 @@ def test_auto_choice_in_sections_uses_every_model():
     for ch, c, wall in SECTION_CASES:
         models.add(str(ek.solve(ch, ek.Electrolyte.salt("KCl", c), wall, model="auto").model))
     assert models == {"thin", "dh", "pb"}
+
+
+@pytest.mark.parametrize("shape", [ek.Slit, ek.Tube])
+def test_regulated_wall_estimates_are_upper_bounds(shape):
+    # A charge-regulating silica wall (site parameters of Behrens & Grier 2001,
+    # J. Chem. Phys. 115, 6716, doi:10.1063/1.1404988, as in ekexplore.surface),
+    # pH 4-10, KCl and CaCl2 0.01-100 mM, kappa a 1e-2-1e4: the thin and dh
+    # estimates bound the error against pb. (Before the overlapped potential of
+    # the regulated wall entered the dh estimate it fell to 0.04 times the error
+    # at kappa a ~ 0.2, pH ~ 4.7.)
+    from ekexplore.surface import Surface
+    import warnings
+    rng = np.random.default_rng({"Slit": 5, "Tube": 6}[shape.__name__])
+    n = 150
+    for salt in ("KCl", "CaCl2"):
+        e = ek.Electrolyte.salt(salt, 0.1)
+        sizes = np.clip(2 * 10 ** rng.uniform(-2, 4, n) * float(e.debye_length), 1e-9, 1e-2)
+        pH = rng.uniform(4, 10, n)
+
+        def walls(k):
+            return ek.Wall(surface=Surface.silica(), pH=pH if k is None else pH[k])
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            Mp, _ = _solve_each(shape, sizes, e, walls, "pb")
+            for model in ("thin", "dh"):
+                M, est = _solve_each(shape, sizes, e, walls, model)
+                err = np.max(np.abs(M - Mp) / np.abs(Mp), axis=(-2, -1))
+                meaningful = err > 1e-5
+                assert np.all(est[meaningful] >= err[meaningful]), (salt, model)

@@ -238,10 +238,13 @@ def test_help_states_the_total_memory_bound_of_the_kernels(capsys):
     assert "--cull-disconnected" in text
 
 
-def test_non_loopback_address_warns_loudly_and_keeps_the_token(monkeypatch, capsys):
+@pytest.fixture
+def no_server(monkeypatch):
+    """``ekexplore serve`` with a stand-in for the server process that exits at
+    once (nothing listens); returns what it was started with."""
     seen = {}
 
-    class NoServer:  # stands in for the server process: nothing listens on 0.0.0.0
+    class NoServer:
         def __init__(self, cmd, cwd=None, env=None):
             seen["cmd"], seen["env"] = cmd, env
             self.pid = -1
@@ -254,32 +257,26 @@ def test_non_loopback_address_warns_loudly_and_keeps_the_token(monkeypatch, caps
 
     monkeypatch.setattr(cli.subprocess, "Popen", NoServer)
     monkeypatch.setattr(cli.signal, "signal", lambda *a: None)
+    return seen
+
+
+def test_non_loopback_address_warns_loudly_and_keeps_the_token(no_server, capsys):
     assert cli.main(["serve", "--host", "0.0.0.0", "--port", "8899"]) == 1
     err = capsys.readouterr().err
     assert "WARNING: ekexplore serve is listening on 0.0.0.0:8899" in err
     assert "unencrypted" in err
+    seen = no_server
     assert len(seen["env"][_serve.ENV_TOKEN]) >= cli.TOKEN_MIN   # a token, always
     assert not any(_serve.ENV_TOKEN in a or seen["env"][_serve.ENV_TOKEN] in a
                    for a in seen["cmd"])                          # never on the command line
     assert "--host=0.0.0.0" in seen["cmd"]
 
 
-def test_loopback_prints_no_remote_warning(monkeypatch, capsys):
-    class NoServer:
-        def __init__(self, cmd, cwd=None, env=None):
-            self.pid = -1
-
-        def poll(self):
-            return 1
-
-        def wait(self, timeout=None):
-            return 1
-
-    monkeypatch.setattr(cli.subprocess, "Popen", NoServer)
-    monkeypatch.setattr(cli.signal, "signal", lambda *a: None)
+def test_loopback_prints_no_remote_warning(no_server, capsys):
     cli.main(["serve"])
     out = capsys.readouterr()
     assert "WARNING" not in out.err and "token=" not in out.out   # no URL: it never answered
+    assert "--host=127.0.0.1" in no_server["cmd"]
 
 
 def test_server_refuses_to_start_without_a_token(monkeypatch):

@@ -14,6 +14,7 @@ import numpy as np
 from scipy import constants
 
 import ekexplore as ek
+from ekexplore.transport import CONDUCTANCE_UNITS, RESULT_UNITS
 
 from . import units as U
 from .units import eng, num
@@ -55,7 +56,7 @@ def curves(prof):
     """Profile curves of a 1D ``Profiles`` or, for a 2D section, along the cut
     from the wall point nearest the centre to the centre."""
     f = lambda a: np.asarray(a, dtype=float).reshape(-1)  # noqa: E731
-    if hasattr(prof, "wall_normal"):
+    if prof.mesh is not None:     # a 2D section: the cut from the wall to the centre
         cut = prof.wall_normal()
         conc = np.stack([f(cut[f"c_{n}"]) for n in prof.ion_names])
         return Curves(x=f(cut["distance"]), from_wall=True,
@@ -176,7 +177,7 @@ def field_images(prof, n=160):
     the whole cross-section is filled; pixels wholly outside stay NaN
     (transparent).
     """
-    if not hasattr(prof, "on_grid"):
+    if prof.mesh is None:          # a slit or tube: no image
         return None
     from scipy.spatial import cKDTree
     x, y = np.asarray(prof.x, float), np.asarray(prof.y, float)
@@ -557,20 +558,21 @@ def derived(r, state, problems=()):
     return rows
 
 
+#: The matrix entries in row order, by their result names.
+_MATRIX_NAMES = ("hydraulic", "electroosmotic", "streaming", "conductive")
+
+
 def matrix_csv(ex, state):
     """The matrix per area and the whole-channel figures as CSV text (SI)."""
     m = ex.matrix
     rows = [
         "quantity,value,unit",
-        f"L11 hydraulic,{float(m[0, 0])!r},m^2/(Pa s)",
-        f"L12 electroosmotic,{float(m[0, 1])!r},m^2/(V s)",
-        f"L21 streaming,{float(m[1, 0])!r},A/(m Pa)",
-        f"L22 conductive,{float(m[1, 1])!r},S/m",
-        f"channel length,{float(state.length)!r},m",
     ]
-    units = {"flow_per_pressure": "m^3/(s Pa)", "flow_per_volt": "m^3/(s V)",
-             "current_per_pressure": "A/Pa", "conductance": "S"}
-    rows += [f"{k},{float(v)!r},{units.get(k, '')}" for k, v in ex.conductances.items()]
+    for (i, j), name in zip(((0, 0), (0, 1), (1, 0), (1, 1)), _MATRIX_NAMES):
+        rows.append(f"L{i + 1}{j + 1} {name},{float(m[i, j])!r},{RESULT_UNITS[name]}")
+    rows.append(f"channel length,{float(state.length)!r},m")
+    rows += [f"{k},{float(v)!r},{CONDUCTANCE_UNITS.get(k, '')}"
+             for k, v in ex.conductances.items()]
     rows.append(f"model,{ex.model},")
     rows.append(f"reciprocity residual,{scalar(ex.result.reciprocity_residual)!r},-")
     return "\n".join(rows) + "\n"

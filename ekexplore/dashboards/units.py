@@ -9,6 +9,16 @@ _PREFIXES = [(1e-18, "a"), (1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "µ")
              (1e3, "k"), (1e6, "M"), (1e9, "G")]
 
 
+def _prefix(value):
+    """(scale, prefix) of the largest SI prefix not above |value| (a value that
+    rounds up to the next prefix at 4 digits takes it); atto at the least."""
+    scale, prefix = _PREFIXES[0]
+    for s, p in _PREFIXES:
+        if abs(value) >= s * 0.9995:
+            scale, prefix = s, p
+    return scale, prefix
+
+
 def eng(value, unit="", digits=3):
     """``value`` [SI] with an SI prefix on ``unit``, e.g. ``eng(3.2e-9, "S")`` -> '3.2 nS'.
 
@@ -24,10 +34,7 @@ def eng(value, unit="", digits=3):
         return f"{v} {unit}".strip()
     if v == 0.0:
         return f"0 {unit}".strip()
-    scale, prefix = _PREFIXES[0]
-    for s, p in _PREFIXES:
-        if abs(v) >= s * 0.9995:
-            scale, prefix = s, p
+    scale, prefix = _prefix(v)
     return f"{v / scale:.{digits}g} {prefix}{unit}".strip()
 
 
@@ -69,10 +76,7 @@ def prefix_scale(max_abs):
     v = abs(float(max_abs))
     if not math.isfinite(v) or v == 0.0:
         return 1.0, ""
-    scale, prefix = _PREFIXES[0]
-    for s, p in _PREFIXES:
-        if v >= s * 0.9995:
-            scale, prefix = s, p
+    scale, prefix = _prefix(v)
     return 1.0 / scale, prefix
 
 

@@ -10,73 +10,49 @@ from .meshes import build_mesh
 from .solutions import flow_solution, gouy_scale, scaled_solution
 from ..doublelayer import gouy_chapman_potential
 from ..wall import isolated_wall_potential
-from ..profiles import FieldTotals
+from ..profiles import UNITS as PROFILE_UNITS, Profiles
 
-__all__ = ["SectionProfiles", "UNITS", "section_profiles_factory"]
+__all__ = ["SectionMesh", "SectionProfiles", "UNITS", "section_profiles_factory"]
 
-#: Unit of every field.
-UNITS = {
-    "x": "m", "y": "m", "potential": "V", "concentrations": "mol/m^3",
-    "charge_density": "C/m^3", "velocity_pressure": "m/s", "velocity_electroosmotic": "m/s",
-    "current_migration": "A/m^2", "current_convective": "A/m^2",
-}
-_FIELDS = ("potential", "charge_density", "velocity_pressure", "velocity_electroosmotic",
-           "current_migration", "current_convective")
+#: Unit of every field (the one table of :mod:`ekexplore.profiles`).
+UNITS = PROFILE_UNITS
 
+#: A section's profiles are :class:`ekexplore.Profiles`, the same class as a
+#: slit's or tube's; the older name stays for code that imports it.
+SectionProfiles = Profiles
 
 #: (mesh, query points) digest -> (triangle index, barycentric weights); small FIFO.
 _LOCATE_CACHE: dict = {}
 
 
-class SectionProfiles(FieldTotals):
-    """Fields of one parameter point at the nodes of the section's mesh.
+class SectionMesh:
+    """The triangle mesh behind a section's :class:`~ekexplore.Profiles`: it
+    locates points in triangles and interpolates the fields linearly inside.
 
     Attributes
     ----------
     x, y : ndarray (N,)
         Node coordinates [m]: x across the width, y up from the floor.
     triangles : ndarray (nt, 3)
-        Node indices of the mesh triangles (linear interpolation inside).
-    potential, charge_density, velocity_pressure, velocity_electroosmotic,
-    current_migration, current_convective : ndarray (N,)
-        Fields in the units of :data:`UNITS`, for the driving gradients
-        ``pressure_gradient`` = -dp/dx [Pa/m] and ``field`` = E_x [V/m].
-    concentrations : ndarray (n_ions, N)
-        Ion concentrations [mol/m^3], in the order of ``ion_names``.
+        Node indices of the mesh triangles.
     wall : ndarray of bool (N,)
         True at wall nodes.
+    wall_edges : ndarray (ne, 2)
+        Node indices of the wall edges.
     centre : ndarray (2,)
-        The point the cuts go through [m].
+        The point the centre cuts go through [m].
     """
 
-    def __init__(self, x, y, triangles, wall, fields, concentrations, ion_names, model,
-                 pressure_gradient, field, debye_length, centre, wall_edges):
+    def __init__(self, x, y, triangles, wall, wall_edges, centre):
         self.x, self.y, self.triangles, self.wall = x, y, triangles, wall
-        for k in _FIELDS:
-            setattr(self, k, fields[k])
-        self.concentrations = concentrations
-        self.ion_names = tuple(ion_names)
-        self.model = model
-        self.pressure_gradient = float(pressure_gradient)
-        self.field = float(field)
-        self.debye_length = float(debye_length)
+        self.wall_edges = wall_edges
         self.centre = np.asarray(centre, dtype=float)
-        self._wall_edges = wall_edges
-        self.units = dict(UNITS)
         self._tree = None
 
-    def as_arrays(self):
-        """Dict name -> nodal array (units in :attr:`units`; totals ``velocity``
-        [m/s] and ``current_density`` [A/m^2]; ``c_<ion>`` [mol/m^3])."""
-        out = {"x": self.x, "y": self.y}
-        out.update({k: getattr(self, k) for k in _FIELDS})
-        out["velocity"] = self.velocity
-        out["current_density"] = self.current_density
-        for i, name in enumerate(self.ion_names):
-            out[f"c_{name}"] = self.concentrations[i]
-        return out
+    def wall_distance(self):
+        """Distance of every node from the nearest wall edge [m]."""
+        return _wall_distance(np.stack([self.x, self.y], 1), self.wall_edges)
 
-    # -- interpolation -------------------------------------------------------------
     def _locate(self, q):
         """Triangle index and barycentric weights of points q (nq, 2); -1 outside.
 
@@ -120,38 +96,33 @@ class SectionProfiles(FieldTotals):
         lam = np.stack([l0, l1, l2], -1)[np.arange(len(q)), first]
         return tri, lam
 
-    def sample(self, xq, yq):
-        """Fields interpolated at points (xq, yq) [m]; NaN outside the section."""
+    def sample(self, prof, xq, yq):
+        """Fields of ``prof`` interpolated at points (xq, yq) [m]; NaN outside."""
         xq, yq = np.broadcast_arrays(np.asarray(xq, float), np.asarray(yq, float))
         q = np.stack([xq.ravel(), yq.ravel()], 1)
         tri, lam = self._locate(q)
         ok = tri >= 0
         nodes = self.triangles[np.where(ok, tri, 0)]
         out = {"x": xq, "y": yq}
-        for name, v in self.as_arrays().items():
-            if name in ("x", "y"):
-                continue
+        for name, v in prof.nodal_fields().items():
             val = np.sum(v[nodes] * lam, axis=1)
             out[name] = np.where(ok, val, np.nan).reshape(xq.shape)
         return out
 
-    def on_grid(self, nx=101, ny=101):
-        """Fields on a regular nx x ny grid over the bounding box, for images.
-
-        Returns a dict with ``x`` (nx,), ``y`` (ny,) [m] and each field as an
-        (ny, nx) array, NaN outside the section.
-        """
+    def on_grid(self, prof, nx=101, ny=101):
+        """Fields of ``prof`` on a regular nx x ny grid over the bounding box:
+        ``x`` (nx,), ``y`` (ny,) [m] and each field (ny, nx), NaN outside."""
         gx = np.linspace(self.x.min(), self.x.max(), nx)
         gy = np.linspace(self.y.min(), self.y.max(), ny)
         X, Y = np.meshgrid(gx, gy)
-        out = self.sample(X, Y)
+        out = self.sample(prof, X, Y)
         out["x"], out["y"] = gx, gy
         return out
 
     def _wall_hits(self, origin, direction):
         """Parameters t >= 0 where origin + t direction meets a wall edge."""
         P = np.stack([self.x, self.y], 1)
-        a, b = P[self._wall_edges[:, 0]], P[self._wall_edges[:, 1]]
+        a, b = P[self.wall_edges[:, 0]], P[self.wall_edges[:, 1]]
         e = b - a
         den = direction[0] * e[:, 1] - direction[1] * e[:, 0]
         ok = np.abs(den) > 1e-300
@@ -162,45 +133,38 @@ class SectionProfiles(FieldTotals):
         hit = ok & (s >= -1e-12) & (s <= 1 + 1e-12)
         return t[hit]
 
-    def cut(self, start, end, n=201):
-        """Fields along the segment start -> end [m], n points; adds ``distance`` [m]."""
+    def cut(self, prof, start, end, n=201):
+        """Fields of ``prof`` along start -> end [m], n points; adds ``distance`` [m]."""
         start, end = np.asarray(start, float), np.asarray(end, float)
         s = np.linspace(0.0, 1.0, n)
         pts = start[None] + s[:, None] * (end - start)[None]
-        out = self.sample(pts[:, 0], pts[:, 1])
+        out = self.sample(prof, pts[:, 0], pts[:, 1])
         out["distance"] = s * np.linalg.norm(end - start)
         return out
 
-    def _span(self, direction, n):
+    def span(self, prof, direction, n):
+        """Cut of ``prof`` through the centre along ``direction``, wall to wall."""
         d = np.asarray(direction, float)
         t = self._wall_hits(self.centre, d)
         lo, hi = t[t <= 0].max(), t[t >= 0].min()
-        return self.cut(self.centre + lo * d, self.centre + hi * d, n)
+        return self.cut(prof, self.centre + lo * d, self.centre + hi * d, n)
 
-    def centreline(self, n=201):
-        """Horizontal cut through the centre, wall to wall."""
-        return self._span((1.0, 0.0), n)
-
-    def vertical_centreline(self, n=201):
-        """Vertical cut through the centre, floor (or bottom wall) to top."""
-        return self._span((0.0, 1.0), n)
-
-    def wall_normal(self, n=201):
-        """Cut from the wall point nearest the centre to the centre (``distance``
-        is then the distance from the wall)."""
+    def wall_normal(self, prof, n=201):
+        """Cut of ``prof`` from the wall point nearest the centre to the centre
+        (``distance`` is then the distance from the wall)."""
         P = np.stack([self.x, self.y], 1)
-        a, b = P[self._wall_edges[:, 0]], P[self._wall_edges[:, 1]]
+        a, b = P[self.wall_edges[:, 0]], P[self.wall_edges[:, 1]]
         e = b - a
         t = np.clip(np.sum((self.centre - a) * e, 1) / np.sum(e * e, 1), 0.0, 1.0)
         foot = a + t[:, None] * e
         j = int(np.argmin(np.linalg.norm(foot - self.centre, axis=1)))
         # a geometric cut, graded toward the wall so the double layer shows
-        return self._graded_cut(foot[j], self.centre, n)
+        return self._graded_cut(prof, foot[j], self.centre, n)
 
-    def _graded_cut(self, wall_point, centre, n):
+    def _graded_cut(self, prof, wall_point, centre, n):
         s = np.linspace(0.0, 1.0, n)
         length = np.linalg.norm(centre - wall_point)
-        lam = min(self.debye_length / max(length, 1e-300), 1.0)
+        lam = min(float(prof.debye_length) / max(length, 1e-300), 1.0)
         # when the layer is thin, half the points within five Debye lengths of the wall
         g = s
         if lam < 0.2:
@@ -208,27 +172,9 @@ class SectionProfiles(FieldTotals):
             outer = 5 * lam + (1 - 5 * lam) * (s[s >= 0.5] - 0.5) / 0.5
             g = np.concatenate([inner, outer])
         pts = wall_point[None] + g[:, None] * (centre - wall_point)[None]
-        out = self.sample(pts[:, 0], pts[:, 1])
+        out = self.sample(prof, pts[:, 0], pts[:, 1])
         out["distance"] = g * length
         return out
-
-    def to_frame(self):
-        """A pandas DataFrame: one row per mesh node, columns with units
-        (``potential [V]`` ...). Needs pandas (not a core dependency)."""
-        try:
-            import pandas as pd
-        except ImportError as exc:  # pragma: no cover - depends on the environment
-            raise ImportError("to_frame needs pandas: pip install pandas") from exc
-        cols = {"x [m]": self.x, "y [m]": self.y, "wall": self.wall}
-        for k in _FIELDS:
-            cols[f"{k} [{UNITS[k]}]"] = getattr(self, k)
-        for i, name in enumerate(self.ion_names):
-            cols[f"c_{name} [mol/m^3]"] = self.concentrations[i]
-        return pd.DataFrame(cols)
-
-    def __repr__(self):
-        return (f"SectionProfiles(nodes={len(self.x)}, model={self.model!r}, "
-                f"pressure_gradient={self.pressure_gradient:g}, field={self.field:g})")
 
 
 def _wall_distance(P, wall_edges):
@@ -246,7 +192,8 @@ def _wall_distance(P, wall_edges):
 
 
 def section_profiles_factory(channel, cond, models, accuracy):
-    """The ``profiles`` callable of a section kernel result."""
+    """The ``profiles`` callable of a section kernel result: one
+    :class:`~ekexplore.Profiles` per point (an object array for a batch)."""
 
     def make(pressure_gradient=1.0, field=1.0):
         b = cond.flat()
@@ -254,60 +201,73 @@ def section_profiles_factory(channel, cond, models, accuracy):
         mods = np.broadcast_to(np.asarray(models), cond.shape).reshape(-1)
         n = 4 * resolution(accuracy)       # twice the kernel's finest level: smooth images
         result = np.empty(b.B, dtype=object)
-        z = b.z
         for k in range(b.B):
             kind, dims, L = geo["spec"][k]
             bk = b.take(np.array([k])).with_length(np.array([L]))
-            eps, eta, VT, kappa = bk.eps[0], bk.eta[0], bk.VT[0], bk.kappa[0]
-            c, w, lam_i = bk.c[:, 0], bk.charge_weights[:, 0], bk.molar_conductivity[:, 0]
-            lam = 1.0 / (kappa * L)
-            name = str(mods[k])
-            value = bk.scaled_value if bk.wall.rows else float(bk.scaled_value[0])
-            if name == "thin":
-                mesh = build_mesh(kind, dims, n, lam)
-                u = flow_solution(mesh)["u"]
-                if bk.wall.nonlinear:
-                    phi_w = float(bk.wall.isolated_potential(z, bk.weights, bk.K,
-                                                             bk.scaled_value)[0])
-                else:
-                    phi_w = value if bk.wall.dirichlet else float(isolated_wall_potential(
-                        z, bk.weights, bk.K, bk.scaled_value)[0])
-                dist = _wall_distance(mesh.points, mesh.wall_edges)
-                zc = np.max(np.abs(z))
-                phi = gouy_chapman_potential(zc, phi_w, np.exp(-dist / lam))
-                ueo_s = np.full_like(phi, -phi_w)
-                # the charge of the layer moves with the layer's own velocity
-                # (the slip is reached across it): what the coefficient counts
-                layer_s = phi - phi_w
-            else:
-                gouy = gouy_scale(lam, z, value) if (name == "pb" and bk.wall.dirichlet) else None
-                mesh = build_mesh(kind, dims, n, lam, gouy)
-                r = scaled_solution(mesh, (kappa * L) ** 2, w, z, bk.wall.name, value, name)
-                phi, u = r["phi"], r["u"]
-                ueo_s = layer_s = r["d"]
-            zc = z[:, None]
-            if name == "dh":
-                conc = c[:, None] * (1.0 - zc * phi[None] + 0.5 * zc**2 * phi[None] ** 2)
-                rho = -eps * kappa**2 * VT * phi
-            else:
-                conc = c[:, None] * np.exp(-zc * phi[None])
-                rho = F * (z @ conc)
-            up = pressure_gradient * L**2 / eta * u
-            ueo = field * eps * VT / eta * ueo_s
-            mig = field * (lam_i @ conc)
-            conv = rho * (up + field * eps * VT / eta * layer_s)
-            P = mesh.points * L
-            centre = (mesh.m @ mesh.points) / mesh.area * L
-            if kind == "polygon":
-                centre = np.array(dims[:2]) * L
-            fields = {"potential": phi * VT, "charge_density": rho, "velocity_pressure": up,
-                      "velocity_electroosmotic": ueo, "current_migration": mig,
-                      "current_convective": conv}
-            result[k] = SectionProfiles(P[:, 0], P[:, 1], mesh.triangles, mesh.wall, fields,
-                                        conc, cond.ion_names, name, pressure_gradient, field,
-                                        lam * L, centre, mesh.wall_edges)
+            mesh, scaled = _scaled_fields(bk, str(mods[k]), kind, dims, n)
+            result[k] = _point_profiles(bk, str(mods[k]), mesh, scaled, kind, dims,
+                                        pressure_gradient, field, cond.ion_names)
         if cond.shape == ():
             return result[0]
         return result.reshape(cond.shape)
 
     return make
+
+
+def _scaled_fields(bk, name, kind, dims, n):
+    """Mesh and scaled fields of one point (``bk``, length scaled by L):
+    potential phi, flow u, electro-osmotic velocity and the velocity that
+    carries the layer's charge (over eps E kT/(e eta)), wall distance (thin)."""
+    z = bk.z
+    lam = 1.0 / bk.K[0]
+    value = bk.scaled_value if bk.wall.rows else float(bk.scaled_value[0])
+    if name != "thin":
+        gouy = gouy_scale(lam, z, value) if (name == "pb" and bk.wall.dirichlet) else None
+        mesh = build_mesh(kind, dims, n, lam, gouy)
+        r = scaled_solution(mesh, bk.K[0] ** 2, bk.charge_weights[:, 0], z, bk.wall.name,
+                            value, name)
+        return mesh, {"phi": r["phi"], "u": r["u"], "ueo": r["d"], "layer": r["d"],
+                      "dist": None}
+    mesh = build_mesh(kind, dims, n, lam)
+    if bk.wall.nonlinear:
+        phi_w = float(bk.wall.isolated_potential(z, bk.weights, bk.K, bk.scaled_value)[0])
+    else:
+        phi_w = value if bk.wall.dirichlet else float(isolated_wall_potential(
+            z, bk.weights, bk.K, bk.scaled_value)[0])
+    dist = _wall_distance(mesh.points, mesh.wall_edges)
+    phi = gouy_chapman_potential(np.max(np.abs(z)), phi_w, np.exp(-dist / lam))
+    # the slip velocity everywhere; the charge of the layer moves with the
+    # layer's own velocity (the slip is reached across it): what the
+    # coefficient counts
+    return mesh, {"phi": phi, "u": flow_solution(mesh)["u"], "ueo": np.full_like(phi, -phi_w),
+                  "layer": phi - phi_w, "dist": dist}
+
+
+def _point_profiles(bk, name, mesh, scaled, kind, dims, pressure_gradient, field, ion_names):
+    """SI :class:`~ekexplore.Profiles` of one point from its scaled fields."""
+    L = bk.length[0]
+    eps, eta, VT, kappa = bk.eps[0], bk.eta[0], bk.VT[0], bk.kappa[0]
+    c, z, phi = bk.c[:, 0], bk.z, scaled["phi"]
+    zc = z[:, None]
+    if name == "dh":
+        conc = c[:, None] * (1.0 - zc * phi[None] + 0.5 * zc**2 * phi[None] ** 2)
+        rho = -eps * kappa**2 * VT * phi
+    else:
+        conc = c[:, None] * np.exp(-zc * phi[None])
+        rho = F * (z @ conc)
+    up = pressure_gradient * L**2 / eta * scaled["u"]
+    P = mesh.points * L
+    centre = (mesh.m @ mesh.points) / mesh.area * L
+    if kind == "polygon":
+        centre = np.array(dims[:2]) * L
+    grid = SectionMesh(P[:, 0], P[:, 1], mesh.triangles, mesh.wall, mesh.wall_edges, centre)
+    dist = scaled["dist"]
+    return Profiles(
+        coordinates={"x": P[:, 0], "y": P[:, 1]}, potential=phi * VT, concentrations=conc,
+        ion_names=ion_names, charge_density=rho, velocity_pressure=up,
+        velocity_electroosmotic=field * eps * VT / eta * scaled["ueo"],
+        current_migration=field * (bk.molar_conductivity[:, 0] @ conc),
+        current_convective=rho * (up + field * eps * VT / eta * scaled["layer"]),
+        debye_length=(1.0 / bk.K[0]) * L, model=name,
+        pressure_gradient=pressure_gradient,
+        field=field, mesh=grid, wall_distance=None if dist is None else dist * L)

@@ -11,7 +11,7 @@ from functools import lru_cache
 import numpy as np
 from scipy import special
 
-from ..channels import Channel, ParameterInfo, SIZE_MAX, SIZE_MIN, register_shape
+from ..channels import Channel, ParameterInfo, SIZE_MAX, SIZE_MIN, _size, register_shape
 from .._validate import as_float_array, check_range
 from .kernel import section_kernel
 from .meshes import build_mesh
@@ -24,13 +24,6 @@ __all__ = ["Rectangle", "Trapezoid", "IsotropicEtch", "Ellipse", "Polygon",
 #: arctan(sqrt(2)) = 54.7356 deg, the sidewall of anisotropic (KOH) etching
 #: (crystal geometry; common practice).
 KOH_SIDEWALL_ANGLE = float(np.degrees(np.arctan(np.sqrt(2.0))))
-
-_HINT = "continuum electrokinetics needs sizes from 1 nm to 1 cm"
-
-
-def _size(name, value):
-    return check_range(name, value, SIZE_MIN, SIZE_MAX, unit="m", hint=_HINT)
-
 
 def _width(name, value):
     """A width that may be zero (a V-groove floor, an etch without mask opening)."""

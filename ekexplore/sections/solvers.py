@@ -126,49 +126,65 @@ def solve_potential(mesh, kl2, w, z, condition, value, model, guess=None):
     if WALL_CONDITIONS[condition].nonlinear:
         return _solve_nonlinear_wall(mesh, kl2, w, z, WALL_CONDITIONS[condition], value, model,
                                      guess)
-    K, m = mesh.K, mesh.m
     keep = w != 0
     w, z = w[keep], z[keep]
-    zm = np.max(np.abs(z))
-    n = mesh.n_nodes
-    if condition == "potential":
-        offset = float(value)
-        idx = mesh.interior
-        A = mesh.K_II
-        sb = np.zeros(n)
-    else:
-        idx = np.arange(n)
-        A = K
-        sb = value * mesh.b
-        total = value * mesh.b.sum() / (kl2 * m.sum())
-        # w here are the charge weights z_i c_i / sum z_j^2 c_j: those of
-        # donnan_potential are c_i / sum z_j^2 c_j
-        offset = total if model == "dh" else float(
-            donnan_potential(z, (w / z)[:, None], np.array([-total]))[0])
-    dev = np.zeros(n)
+    offset, idx, A, sb = _fixed_wall_system(mesh, kl2, w, z, condition, value, model)
     if model == "dh":
         # linear: (K + kl2 M) dev = -kl2 m offset + s b, zero on a potential wall
-        rhs = -kl2 * m[idx] * offset + sb[idx]
-        dev[idx] = factorize((A + sp.diags(kl2 * m[idx])).tocsc()).solve(rhs)
+        dev = np.zeros(mesh.n_nodes)
+        rhs = -kl2 * mesh.m[idx] * offset + sb[idx]
+        dev[idx] = factorize((A + sp.diags(kl2 * mesh.m[idx])).tocsc()).solve(rhs)
         return offset, dev, {"iterations": 1, "update": 0.0}
     we = w * np.exp(-z * offset)          # g(offset + dev) = sum_i we_i exp(-z_i dev)
+    dev = _pb_start(mesh, kl2, we, z, condition, offset, idx, A, sb, guess)
+    dev, it, update = _pb_newton(mesh, kl2, we, z, idx, A, sb, dev)
+    return offset, dev, {"iterations": it, "update": update}
+
+
+def _fixed_wall_system(mesh, kl2, w, z, condition, value, model):
+    """(offset, unknown nodes, their stiffness matrix, wall charge vector s b)
+    of a constant-potential or constant-charge wall."""
+    n = mesh.n_nodes
+    if condition == "potential":
+        return float(value), mesh.interior, mesh.K_II, np.zeros(n)
+    sb = value * mesh.b
+    total = value * mesh.b.sum() / (kl2 * mesh.m.sum())
+    # w here are the charge weights z_i c_i / sum z_j^2 c_j: those of
+    # donnan_potential are c_i / sum z_j^2 c_j
+    offset = total if model == "dh" else float(
+        donnan_potential(z, (w / z)[:, None], np.array([-total]))[0])
+    return offset, np.arange(n), mesh.K, sb
+
+
+def _pb_start(mesh, kl2, we, z, condition, offset, idx, A, sb, guess):
+    """Start of the pb Newton iteration for the deviation from ``offset``."""
     if guess is not None:
         dev = np.array(guess, dtype=float) - offset
         if condition == "potential":
             dev[mesh.wall] = 0.0
-    else:
-        # linearised about the offset: (K + kl2 g1 M) dev = kl2 m g0 + s b
-        g0, g1 = float(np.sum(we)), float(np.sum(we * z))
-        rhs = kl2 * m[idx] * g0 + sb[idx]
-        dev[idx] = factorize((A + sp.diags(kl2 * g1 * m[idx])).tocsc()).solve(rhs)
-        if condition == "potential" and offset != 0.0:
-            # Gouy-Chapman shaped start: keeps the Newton path short at high |zeta|
-            f = np.clip(1.0 + dev / offset, 0.0, 1.0)
-            dev = gouy_chapman_potential(zm, offset, f) - offset
-        else:
-            dev = np.clip(dev, -30.0 / zm, 30.0 / zm)
+        return dev
+    # linearised about the offset: (K + kl2 g1 M) dev = kl2 m g0 + s b
+    dev = np.zeros(mesh.n_nodes)
+    zm = np.max(np.abs(z))
+    g0, g1 = float(np.sum(we)), float(np.sum(we * z))
+    rhs = kl2 * mesh.m[idx] * g0 + sb[idx]
+    dev[idx] = factorize((A + sp.diags(kl2 * g1 * mesh.m[idx])).tocsc()).solve(rhs)
+    if condition == "potential" and offset != 0.0:
+        # Gouy-Chapman shaped start: keeps the Newton path short at high |zeta|
+        f = np.clip(1.0 + dev / offset, 0.0, 1.0)
+        return gouy_chapman_potential(zm, offset, f) - offset
+    return np.clip(dev, -30.0 / zm, 30.0 / zm)
+
+
+def _pb_newton(mesh, kl2, we, z, idx, A, sb, dev):
+    """Newton on the convex pb energy for the deviation on the nodes ``idx``;
+    returns (deviation, iterations, last update)."""
+    K, m = mesh.K, mesh.m
     mI = m[idx]
-    E0 = _energy(K, m, kl2, we, z, dev, sb)
+
+    def energy(trial):
+        return _energy(K, m, kl2, we, z, trial, sb)
+    E0 = energy(dev)
     update = np.inf
     lu = None
     for it in range(1, _NEWTON_MAXIT + 1):
@@ -184,34 +200,42 @@ def solve_potential(mesh, kl2, w, z, condition, value, model, guess=None):
         if d is None:
             lu = factorize(J)
             d = -lu.solve(res)
-        step = 1.0
-        trial = dev.copy()
-        for _ in range(60):
-            trial[idx] = dev[idx] + step * d
-            with np.errstate(over="ignore", invalid="ignore"):
-                E1 = _energy(K, m, kl2, we, z, trial, sb)
-            if not np.isfinite(E1):
-                step *= 0.5
-                continue
-            if E1 <= E0 + 1e-4 * step * _dot(res, d) + 1e-13 * abs(E0) or step < 1e-10:
-                break
-            step *= 0.5
-        dev, E0 = trial, E1
+        dev, E0, step = _line_search(energy, dev, d, idx, E0, _dot(res, d))
         previous, update = update, step * np.max(np.abs(d))
-        # converged when the update is negligible against the potential's variation
-        # across the section (which sets the coefficients), or at round-off: a
-        # small update that no longer shrinks (quadratic convergence has stalled
-        # at the conditioning limit of very thin layers)
-        spread = float(np.ptp(dev))
-        if update <= _NEWTON_TOL * spread or update <= 1e-15 * max(1.0, np.max(np.abs(dev))):
+        if _converged(update, previous, dev, 0.0):
+            return dev, it, update
+    raise FloatingPointError(
+        f"internal error: 2D Poisson-Boltzmann Newton did not converge "
+        f"(last update {update:.3g}); please report the inputs")
+
+
+def _line_search(energy, dev, d, idx, E0, slope):
+    """Backtracking (Armijo) on the convex energy along the Newton direction
+    ``d`` of the nodes ``idx``: (new deviation, its energy, step length)."""
+    step = 1.0
+    trial = dev.copy()
+    for _ in range(60):
+        trial[idx] = dev[idx] + step * d
+        with np.errstate(over="ignore", invalid="ignore"):
+            E1 = energy(trial)
+        if np.isfinite(E1) and (E1 <= E0 + 1e-4 * step * slope + 1e-13 * abs(E0)
+                                or step < 1e-10):
             break
-        if update <= 1e-9 * max(spread, 1.0) and update > 0.25 * previous:
-            break
-    else:
-        raise FloatingPointError(
-            f"internal error: 2D Poisson-Boltzmann Newton did not converge "
-            f"(last update {update:.3g}); please report the inputs")
-    return offset, dev, {"iterations": it, "update": update}
+        step *= 0.5
+    return trial, E1, step
+
+
+def _converged(update, previous, dev, spread_floor):
+    """Converged when the update is negligible against the potential's
+    variation across the section (which sets the coefficients; at least
+    ``spread_floor``), or at round-off: a small update that no longer shrinks
+    (quadratic convergence has stalled at the conditioning limit of very thin
+    layers)."""
+    spread = float(np.ptp(dev))
+    if update <= _NEWTON_TOL * max(spread, spread_floor) or \
+            update <= 1e-15 * max(1.0, np.max(np.abs(dev))):
+        return True
+    return update <= 1e-9 * max(spread, 1.0) and update > 0.25 * previous
 
 
 def _solve_nonlinear_wall(mesh, kl2, w, z, wall, value, model, guess=None):
@@ -267,23 +291,9 @@ def _solve_nonlinear_wall(mesh, kl2, w, z, wall, value, model, guess=None):
         diag = kl2 * m * dg
         diag[wall_nodes] -= bw * ds_w
         d = -factorize((K + sp.diags(diag)).tocsc()).solve(res)
-        step = 1.0
-        trial = dev.copy()
-        for _ in range(60):
-            trial = dev + step * d
-            with np.errstate(over="ignore", invalid="ignore"):
-                E1 = energy(trial)
-            if np.isfinite(E1) and (E1 <= E0 + 1e-4 * step * _dot(res, d) + 1e-13 * abs(E0)
-                                    or step < 1e-10):
-                break
-            step *= 0.5
-        dev, E0 = trial, E1
+        dev, E0, step = _line_search(energy, dev, d, slice(None), E0, _dot(res, d))
         previous, update = update, step * np.max(np.abs(d))
-        spread = float(np.ptp(dev))
-        if update <= _NEWTON_TOL * max(spread, 1e-3) or \
-                update <= 1e-15 * max(1.0, np.max(np.abs(dev))):
-            break
-        if update <= 1e-9 * max(spread, 1.0) and update > 0.25 * previous:
+        if _converged(update, previous, dev, 1e-3):
             break
     else:
         raise FloatingPointError(
