@@ -264,6 +264,7 @@ class Explored:
     curves: Curves | None = None
     images: dict | None = None
     wall: dict | None = None        # zeta [V], sigma [C/m^2], charged fraction, error
+    notes: list = field(default_factory=list)     # crowding/accuracy warnings, in words
 
 
 def wall_state(r, ref, acc):
@@ -353,6 +354,26 @@ def impossible(r):
     return out
 
 
+#: library warnings the screens show in words (the range and impossible-result
+#: warnings are shown through the accuracy and the checks of the result)
+NOTED_WARNINGS = ("CrowdingWarning", "AccuracyWarning")
+
+
+def noted_solve(state, model=None, **kw):
+    """``state.solve`` whose crowding and accuracy warnings are returned as
+    sentences for the screen, (result, notes), instead of being printed into
+    the notebook."""
+    with _warnings.catch_warnings(record=True) as caught:
+        _warnings.simplefilter("always")
+        r = state.solve(model, **kw)
+    notes = []
+    for w in caught:
+        text_ = str(w.message)
+        if type(w.message).__name__ in NOTED_WARNINGS and text_ not in notes:
+            notes.append(text_)
+    return r, notes
+
+
 def _quiet_solve(state, model, **kw):
     """A comparison solve (a model on purpose outside its range, for the
     maps and the verdict): its range warnings are what the screen shows."""
@@ -387,12 +408,12 @@ def explore_matrix(state):
     """The coupling matrix and everything read from it (verdict, accuracy,
     derived quantities): the fast first stage of an update. Raises ValueError
     for bad inputs."""
-    r = state.solve()
+    r, notes = noted_solve(state)
     model = text(r.model)
     if state.is_section:
         ref = None          # a 2D pb solve per update would be slow: estimates instead
     else:
-        ref = r if model == "pb" else state.solve("pb")
+        ref = r if model == "pb" else noted_solve(state, "pb")[0]
     thin = r if model == "thin" else _quiet_solve(state, "thin")
     G = state.pressure_drop / state.length
     E = state.voltage / state.length
@@ -405,7 +426,7 @@ def explore_matrix(state):
                     matrix=matrix, conductances=cond, model=model,
                     verdict=verdict(r, thin, state, ref, acc), accuracy=acc,
                     problems=problems, derived=derived(r, state, problems),
-                    wall=wall_state(r, ref, acc))
+                    wall=wall_state(r, ref, acc), notes=notes)
 
 
 def explore_fields(ex):
@@ -713,6 +734,18 @@ PH_LAYERS = {
 }
 #: pH range of the pH map without a buffer
 PH_MAP_RANGE = (2.0, 12.0)
+#: Largest share of a pH-map cell's ionic strength that the (not modelled) ions
+#: of the acid or base setting an unbuffered pH may carry [-]
+ACID_BASE_SHARE = 0.1
+
+
+def acid_base_ionic_strength(pH):
+    """Ionic strength [mol/m^3] the strong acid (HCl) or base (KOH) brings that
+    sets an unbuffered solution to ``pH`` at 25 °C, ideal: [H+] = 10^-pH mol/L
+    with its anion, or [OH-] = 10^(pH-14) mol/L with its cation (pK_w 14,
+    common practice); 1 mol/L = 1000 mol/m^3."""
+    pH = np.asarray(pH, dtype=float)
+    return 1e3 * (10.0 ** -pH + 10.0 ** (pH - 14.0))
 
 
 def map_pH(state, n_pH=24, n_I=30):
@@ -722,8 +755,9 @@ def map_pH(state, n_pH=24, n_I=30):
     buffer, each cell is the buffer re-titrated to that pH (its useful range
     only) with the salt that brings the ionic strength to the cell's value
     (buffer ions included). Without a buffer the pH is what the wall's sites
-    see, the ions are the salt's (the acid or base that would set that pH is
-    not added). A 2D section is mapped as the slit of the same half-size
+    see and the ions are the salt's: the acid or base that would set that pH
+    is not added, so cells where its ions would pass a tenth of the ionic
+    strength (``ACID_BASE_SHARE``) are left out. A 2D section is mapped as the slit of the same half-size
     (:func:`map_proxy`). Returns None unless the wall is a material.
     """
     from .state import CONCENTRATION_RANGE
@@ -739,6 +773,11 @@ def map_pH(state, n_pH=24, n_I=30):
     lam = ek.debye_length(I, state.temperature)
     ka = half_size_ratio(state) * size * factor / lam
     ok = np.isfinite(C) & (ka >= KAPPA_SIZE_RANGE[0] * 1.01) & (ka <= KAPPA_SIZE_RANGE[1] * 0.99)
+    if not state.buffer:
+        # the strong acid or base that sets the pH brings H+ or OH- of about
+        # 10^-pH or 10^(pH-14) mol/L (ideal): cells where they would exceed a
+        # tenth of the ionic strength are left out (their ions are not modelled)
+        ok &= acid_base_ionic_strength(H) <= ACID_BASE_SHARE * I
     kw = dict(concentration=C[ok], size=size * factor)
     if state.buffer:
         kw["electrolyte_pH"] = H[ok]      # the buffer re-titrated; the wall sees its pH
@@ -814,6 +853,7 @@ class Device:
     problems: list = field(default_factory=list)   # impossible values, in words
     warnings: list = field(default_factory=list)   # ratings exceeded, in words
     accuracy: Accuracy | None = None
+    notes: list = field(default_factory=list)      # crowding/accuracy warnings, in words
 
 
 def device(state, n_load=121):
@@ -825,7 +865,7 @@ def device(state, n_load=121):
     device into a load R; the current I = c dp + g V returns through R, so
     V = -c dp R / (1 + g R), load power V^2/R and efficiency V^2/R / (Q dp).
     """
-    r = state.solve()
+    r, notes = noted_solve(state)
     N = int(state.channels)
     c = {k: N * scalar(v) for k, v in r.conductances(state.length).items()}
     a, b, cc, g = (c["flow_per_pressure"], c["flow_per_volt"], c["current_per_pressure"],
@@ -861,11 +901,11 @@ def device(state, n_load=121):
     if state.is_section or text(r.model) == "pb":
         ref = None
     else:
-        ref = state.solve("pb")
+        ref = noted_solve(state, "pb")[0]
     acc = accuracy(r, ref, state)
     return Device(result=r, channels=N, conductances=c, flow=Q, current=I, power=V * I,
                   accuracy=acc,
                   stall_pressure=stall, free_flow=free, streaming_voltage=-cc * dp / g,
                   streaming_current=cc * dp, max_efficiency=scalar(r.max_efficiency),
                   load=R, load_power=Pl, load_efficiency=eff, best_load=best,
-                  problems=problems, warnings=warnings)
+                  problems=problems, warnings=warnings, notes=notes)

@@ -48,6 +48,8 @@ def readout_html(d, state):
     warn = ""
     if d.accuracy is not None and d.accuracy.out_of_range:
         warn += f"<div class='ekx-warn'>⚠ {html.escape(d.accuracy.out_of_range)}</div>"
+    for note in d.notes:
+        warn += f"<div class='ekx-warn'>⚠ {html.escape(note)}</div>"
     if d.problems:
         warn += ("<div class='ekx-warn'>⚠ Impossible result with the "
                  f"{html.escape(compute.text(d.result.model))} model here: "

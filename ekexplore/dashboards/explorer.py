@@ -65,6 +65,8 @@ def matrix_html(ex, state):
     warn = ""
     if acc.out_of_range:
         warn += f"<div class='ekx-warn'>⚠ {html.escape(acc.out_of_range)}</div>"
+    for note in ex.notes:
+        warn += f"<div class='ekx-warn'>⚠ {html.escape(note)}</div>"
     if ex.problems:
         warn += ("<div class='ekx-warn'>⚠ Impossible result, not shown: "
                  f"{html.escape('; '.join(ex.problems))}. "

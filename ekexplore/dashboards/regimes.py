@@ -426,9 +426,10 @@ class RegimesView(ViewUpdates):
         if m["n_valid"] < m["n_cells"]:
             grey.append("grey: out of reach or outside the solver range")
         acid = ("" if st.buffer else
-                " Without a buffer the pH axis is the pH the wall's sites see; the salt's ions "
-                "are kept (the acid or base that would set that pH is not added: below pH 4 or "
-                "above pH 10 it would add 0.1 mM or more).")
+                " Without a buffer the pH axis is the pH the wall's sites see and the ions are "
+                "the salt's: the acid or base that would set that pH is not added, so the cells "
+                "where its H⁺ or OH⁻ would pass a tenth of the ionic strength are empty "
+                "(low salt at low or high pH).")
         self.ph_readout.value = (
             "<div class='ekx-small'><b>pH map</b>, one batched solve over "
             f"{m['n_valid']} of {m['n_cells']} cells (model {html.escape(st.model)}). "
