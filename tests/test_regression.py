@@ -55,19 +55,24 @@ def _bulk_advection(result):
     return result._cond.z_b() * F * result._cond.concentrations * result.electroosmotic
 
 
-def _refined_tolerance(old_error):
+def _refined_tolerance(old_error, result):
     # A section point whose levels missed the accuracy after one refinement
     # stopped there before (silently; e.g. Ellipse, charge wall, kappa a = 178:
     # mesh error 6e-3 at n = 48 for accuracy 1e-3); since targets are met or
     # said, it refines on as far as its estimate asks (n = 96: 2e-5). Such a
     # point may move, but only within the error its old result reported.
-    return np.maximum(RTOL, old_error)
+    # Since the 2D estimate describes the extrapolated value (four levels,
+    # ekexplore.sections.extrapolation.extrapolated_error), a point stops
+    # refining where its own estimate meets the accuracy, which may be earlier
+    # or later than before: both results bound their distance to the same exact
+    # value by their estimates, so they may differ by the sum of the two.
+    return np.maximum(RTOL, old_error + np.asarray(result.error_estimate))
 
 
 def _sections_values(new, old, result, old_error):
     if np.allclose(new, old, rtol=RTOL, atol=0.0):
         return
-    tol = _refined_tolerance(old_error)
+    tol = _refined_tolerance(old_error, result)
     tol = tol.reshape(np.shape(tol) + (1,) * (np.ndim(new) - np.ndim(tol)))
     assert np.all(np.abs(new - old) <= tol * np.abs(old)), "moved beyond the old error"
 
@@ -80,7 +85,7 @@ def _sections_ion_current(new, old, result, old_error):
     # model layer, sections count the excess too: the change must be exactly
     # that bulk term.
     bulk = _bulk_advection(result)
-    tol = _refined_tolerance(old_error)
+    tol = _refined_tolerance(old_error, result)
     scale = np.maximum(np.abs(old), np.max(np.abs(bulk)))
     assert np.all(np.abs(new + bulk - old) <= tol * scale), "ion currents beyond the bulk term"
 
@@ -90,7 +95,7 @@ def _sections_convection(new, old, result, old_error):
     # (sum_i z_i c_i = 0) but leave a round-off of about 1e-16 of their size;
     # compare to 1e-12 of that size.
     bulk = _bulk_advection(result)
-    tol = _refined_tolerance(old_error)
+    tol = _refined_tolerance(old_error, result)
     assert np.all(np.abs(new - old) <= tol * np.maximum(np.abs(old), np.max(np.abs(bulk))))
 
 
@@ -99,11 +104,19 @@ def result_label(result):
 
 
 def _sections_error(new, old, result, old_error):
-    # error estimates of section points: equal to round-off (1e-12 absolute,
-    # see ERROR_ATOL_SECTIONS), or lower where a point that missed its accuracy
-    # now refines further (see _refined_tolerance)
-    same = np.isclose(new, old, rtol=RTOL, atol=ERROR_ATOL_SECTIONS)
-    assert np.all(same | (new < old))
+    # The 2D estimate was the difference of the extrapolations of levels (n/2, n)
+    # and (n, 2n), about 15 times the error of the value returned where the
+    # levels converge at fourth order; it is now the error of the returned value
+    # itself (levels n/2, 3n/4, n, 2n; ekexplore.sections.extrapolation), so it
+    # can be lower or higher (at thin layers and corners it was not an upper
+    # bound). tests/test_sections_kernel.py checks it against finer solves and
+    # the tube; here it must stay positive wherever the old one was (a zero
+    # would claim an exact result) and, since both bound the same error,
+    # within the factor 2,000 of each other that their measured ranges allow
+    # (old 1.3-72, new 1.2-315 times the error at the same points).
+    assert np.all(new[old > 0] > 0)
+    ratio = new[old > 0] / old[old > 0]
+    assert np.all((ratio > 1.0 / 2000.0) & (ratio < 2000.0)), ratio
 
 
 def _forced_closed_form(label):
@@ -168,8 +181,25 @@ for _field in ("matrix", "L22_migration", "L22_convection", "ion_current", "wall
     EXPLAINED[(_field, _charge_newton)] = _charge_newton_values
 EXPLAINED[("error_estimate", lambda label: _is_section(label)
             and not _forced_closed_form(label))] = _sections_error
-for _field in ("matrix", "L22_migration", "wall_potential", "wall_charge"):
+def _sections_wall_values(new, old, result, old_error):
+    # The 2D estimate covers the coefficients, not the wall charge (constant
+    # potential, from the mean charge density) or potential (other walls),
+    # which converge more slowly: at the thin-layer points of the record
+    # (kappa a 170-200, dh) the old wall charge was 0.9-1.4 % off an
+    # accuracy-1e-5 solve where the estimate said 0.14-0.18 %, and a point that
+    # now stops at a coarser level is 0.5 % off with an estimate of 0.05 %
+    # (measured 2026-12). So the wall figures may move by up to ten times the
+    # two estimates.
+    if np.allclose(new, old, rtol=RTOL, atol=0.0):
+        return
+    tol = 10.0 * _refined_tolerance(old_error, result)
+    assert np.all(np.abs(new - old) <= tol * np.abs(old)), "moved beyond the errors"
+
+
+for _field in ("matrix", "L22_migration"):
     EXPLAINED[(_field, _is_section)] = _sections_values
+for _field in ("wall_potential", "wall_charge"):
+    EXPLAINED[(_field, _is_section)] = _sections_wall_values
 
 # Ions with fixed diffusivities [m^2/s] (values of the order of K+, Cl-, Ca2+,
 # SO4 2-, Na+ at 25 C; only their being fixed matters here).

@@ -72,8 +72,21 @@ def _bucket(v, step):
 
 
 def mesh_key(kind, dims, n, lam, gouy):
+    """Cache key: the scaled geometry, the resolution and the grading scales
+    rounded to quarter (Debye) and half (Gouy-Chapman) octaves.
+
+    A Debye length above twice the reference length grades nothing (the
+    layers overlap) and is dropped, unless the wall is strongly charged: the
+    counter-ions then crowd into a Gouy-Chapman layer at the wall however
+    overlapped the rest is, and the log layer from the Gouy-Chapman length
+    up to (at most) twice the reference length resolves it. (Without it a
+    circle at kappa a = 0.095 and e zeta/kT = -15 gave three times the tube's
+    conductive coefficient, unseen by the level estimate.)
+    """
     dims = tuple(float(f"{d:.12g}") for d in dims)
-    lam = None if lam is None or lam > 2.0 else _bucket(lam, 0.25)
+    if lam is not None and lam > 2.0:
+        lam = 2.0 if gouy is not None and gouy <= 0.5 * 2.0 else None
+    lam = None if lam is None else _bucket(lam, 0.25)
     gouy = None if (gouy is None or lam is None or gouy > 0.5 * lam) else _bucket(gouy, 0.5)
     return (kind, dims, int(n), lam, gouy)
 
