@@ -285,8 +285,11 @@ def paired(before, n=100, out=None, cap=None):
         for which in order:
             env = {**os.environ, "PYTHONPATH": paths[which]}
             try:
+                # run in the checkout's folder: a "-c" child puts its working
+                # folder first on sys.path, ahead of PYTHONPATH
                 res = subprocess.run([sys.executable, "-c", DIST_CHILD, str(seed)], env=env,
-                                     capture_output=True, text=True, timeout=cap + 60)
+                                     cwd=paths[which], capture_output=True, text=True,
+                                     timeout=cap + 60)
                 row = json.loads(res.stdout.strip().splitlines()[-1]) if res.stdout.strip() \
                     else {"seed": seed, "failed": (res.stderr.strip().splitlines()
                                                    or ["?"])[-1][:120]}

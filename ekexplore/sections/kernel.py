@@ -40,7 +40,7 @@ _CHARGE_LAYER_SAFETY = 5.0
 #: A dh point stops refining its mesh once the mesh error is below this share
 #: of the model's own error estimate (the larger of the two is reported).
 _MODEL_SHARE = 0.1
-#: Time of the three levels against their cells across, to predict the next
+#: Time of the levels against their cells across, to predict the next
 #: refinement: unknowns grow as n^2 and a solve as unknowns^1.05-1.19
 #: (README, B4), plus the build of the new meshes and the factorisations:
 #: measured 2.6-3 from 64 to 128 cells on a trapezoid; 3 errs on the long side.
@@ -144,7 +144,7 @@ def _point_mesh(channel, bk, geo, k, n, accuracy, model, deadline, model_error=0
             short = "finest"
             break
         nxt = refined(nk, err, target)   # as far as the estimate asks
-        # the three levels cost about (cells)^_COST_EXPONENT: do not start a
+        # the levels cost about (cells)^_COST_EXPONENT: do not start a
         # refinement that would run past the budget
         if time.monotonic() + spent * (nxt / nk) ** _COST_EXPONENT > deadline:
             short = "budget"

@@ -1,9 +1,9 @@
-"""The scaled 2D solutions on one mesh and on the three levels of a point.
+"""The scaled 2D solutions on one mesh and on the levels of a point.
 
 :func:`scaled_solution` solves the potential (dh or pb) and returns the
 area means the coefficients need; :func:`flow_solution` the Poiseuille flow
-and the wall shear; :func:`levels` and :func:`hydraulic` run the three
-levels of :mod:`.extrapolation`.
+and the wall shear; :func:`levels` runs the four levels of a potential and
+:func:`hydraulic` the three of the flow (see :mod:`.extrapolation`).
 """
 from __future__ import annotations
 
