@@ -899,6 +899,32 @@ def test_silica_slit_conductance_becomes_surface_governed():
         assert ratio[0] > 0.4 and ratio[1] > 5 * 70 / 1015
 
 
+def test_silica_slit_streaming_current_falls_at_high_salt_and_rises_with_height():
+    # van der Heyden, F. H. J., Stein, D. & Dekker, C. (2005), "Streaming
+    # currents in a single nanofluidic channel", Phys. Rev. Lett. 95, 116104,
+    # doi:10.1103/PhysRevLett.95.116104 (abstract): in silica channels "down
+    # to 70 nm in height" the streaming current "increases with the channel
+    # height" and, against the salt, "is approximately constant below
+    # approximately 10 mM, whereas it strongly decreases at higher salt".
+    # Checked for regulated silica walls (Behrens & Grier 2001 parameters) in
+    # KCl at pH 5.6-8 (the abstract gives no pH) in the 70 nm and 1015 nm
+    # slits of the test above: the current per pressure gradient rises with
+    # the height at every concentration and falls by more than 40 % from 10
+    # mM to 1 M. Where the model and the data part (not asserted; see the
+    # README): below 1 mM the 70 nm slit's current drops 3-8 times down to
+    # 1 uM, as overlap lowers the regulated charge, instead of staying flat.
+    c = np.array([1e-3, 1e-2, 0.1, 1.0, 10.0, 100.0, 1000.0])
+    e = ek.Electrolyte.salt("KCl", c)
+    for pH in (5.6, 7.0, 8.0):
+        wall = ek.Wall(surface=Surface.silica(), pH=pH)
+        current = {h: np.asarray(ek.solve(ek.Slit(h, width=50e-6), e, wall).streaming) * h
+                   for h in (70e-9, 1015e-9)}
+        assert np.all(current[1015e-9] > current[70e-9])
+        for h, i in current.items():
+            assert np.all(i > 0)          # negative wall: the flow carries positive charge
+            assert i[-1] < 0.6 * i[4], (pH, h)
+
+
 def test_sweep_with_a_surface_matches_solve():
     df = ek.sweep(grid={"gap": [30e-9, 300e-9], "concentration": [0.01, 10.0],
                         "pH": [5.0, 9.0]}, surface=Surface.silica(), model="pb", length=1e-3)
