@@ -113,7 +113,7 @@ def _sections_error(new, old, result, old_error):
     # the tube; here it must stay positive wherever the old one was (a zero
     # would claim an exact result) and, since both bound the same error,
     # within the factor 2,000 of each other that their measured ranges allow
-    # (old 1.3-72, new 1.2-315 times the error at the same points).
+    # (old 0.82-509, new 1.17-315 times the error at the same 189 points).
     assert np.all(new[old > 0] > 0)
     ratio = new[old > 0] / old[old > 0]
     assert np.all((ratio > 1.0 / 2000.0) & (ratio < 2000.0)), ratio

@@ -25,13 +25,14 @@ N_MAX = 128
 #: Safety factor of :func:`extrapolated_error`. Each of its two differences is
 #: exactly the error of the returned extrapolation when the extrapolated values
 #: converge at fourth order; corners (third order) and levels not yet
-#: asymptotic (thin layers at constant-charge walls) make them smaller. On 2 x
-#: 48 random points of every shape (pb and dh, both walls, KCl, CaCl2 and
-#: Na2SO4, kappa*half-size 1e-2-1e4, |z e zeta/kT| 0.05-25) the estimate with
-#: this factor was 1.2-110 times the error of the returned value against levels
-#: 4 and 8 times finer, median about 5 (measured 2026-12; the earlier estimate,
-#: the difference of the two extrapolations: 1.3-72, median 13; checked in
-#: tests/test_sections_kernel.py).
+#: asymptotic (thin layers at constant-charge walls) make them smaller. On 189
+#: random points of every shape (pb and dh, both walls, KCl, CaCl2 and Na2SO4,
+#: kappa*half-size 1e-2-1e4, |z e zeta/kT| 0.05-25) the estimate (with
+#: THIN_LAYER_K and the kernel's charged-wall factor) was 1.17-315 times the
+#: error of the returned value against levels 4 and 8 times finer, median 4.5,
+#: 71 % within 10 times (the earlier estimate, the difference of the
+#: extrapolations (n/2, n) and (n, 2n): 0.82-509, median 10.9, 47 %; measured
+#: 2026-12; checked in tests/test_sections_kernel.py).
 ESTIMATE_SAFETY = 4.0
 #: kappa * reference length above which the coarse levels of the double layer
 #: are not yet asymptotic although their differences look it: there the

@@ -32,11 +32,12 @@ _THIN_CHARGE_K = 2000.0
 #: kappa * half-size above which the level estimate of a wall that is not at
 #: constant potential is multiplied by _CHARGE_LAYER_SAFETY: with layers this
 #: thin the coarse levels of a charged wall are not yet asymptotic although
-#: their differences look it, and the plain estimate was 0.31-0.82 times the
-#: error against levels 4 times finer at 3 of 16 random points (kappa a
-#: 500-9400; at constant potential it held at every point, measured 2026-12).
+#: their differences look it; with the finest level's own error as a floor
+#: (extrapolation.THIN_LAYER_K) the estimate still fell to 1.05 times the error
+#: against levels 4 times finer (kappa a 4,900, polygon; 20 random charged
+#: points with kappa a 300-9,400, measured 2026-12), so 2.
 _CHARGE_LAYER_K = 300.0
-_CHARGE_LAYER_SAFETY = 5.0
+_CHARGE_LAYER_SAFETY = 2.0
 #: A dh point stops refining its mesh once the mesh error is below this share
 #: of the model's own error estimate (the larger of the two is reported).
 _MODEL_SHARE = 0.1
@@ -145,10 +146,13 @@ def _point_mesh(channel, bk, geo, k, n, accuracy, model, deadline, model_error=0
             break
         nxt = refined(nk, err, target)   # as far as the estimate asks
         # the levels cost about (cells)^_COST_EXPONENT: do not start a
-        # refinement that would run past the budget
-        if time.monotonic() + spent * (nxt / nk) ** _COST_EXPONENT > deadline:
-            short = "budget"
-            break
+        # refinement that would run past the budget; refine as far as it allows
+        left = deadline - time.monotonic()
+        if spent * (nxt / nk) ** _COST_EXPONENT > left:
+            nxt = 16 * int(nk * (max(left, 0.0) / spent) ** (1.0 / _COST_EXPONENT) / 16)
+            if nxt <= nk:
+                short = "budget"
+                break
         nk = nxt
     ex = {key: rich(rc[key], rf[key]) for key in
           ("l12", "l21", "mean_c", "conv", "phi_wall", "mean_g")}
