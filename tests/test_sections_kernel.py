@@ -224,3 +224,25 @@ def test_a_model_error_is_not_reported_as_a_missed_mesh_accuracy():
                       ek.Wall(zeta=-0.4 * VT25), "dh")
     assert 1e-3 < float(r.error_estimate) < 0.1
     assert AccuracyWarning not in kinds and ModelRangeWarning not in kinds
+
+
+def test_a_refinement_that_would_overrun_the_time_budget_is_said():
+    # A charged wall with a thin layer (kappa*half-size 1000) misses the default
+    # accuracy on its first levels. With a budget too short for any refinement
+    # the kernel returns those levels and says why (AccuracyWarning naming the
+    # budget, the estimate above the accuracy); with the default budget it
+    # refines until it meets the accuracy, and its estimate falls.
+    e = ek.Electrolyte.salt("KCl", 10.0)
+    lam = float(e.debye_length)
+    ch, wall = ek.Rectangle(width=3000 * lam, depth=2000 * lam), ek.Wall(charge_density=-0.05)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        short = ek.solve(ch, e, wall, model="pb", time_budget=0.1)
+    said = [str(w.message) for w in caught if w.category is AccuracyWarning]
+    assert float(short.error_estimate) > 1e-3
+    assert len(said) == 1 and "time budget" in said[0], said
+    full, kinds = _solve(ch, e, wall, "pb")
+    assert float(full.error_estimate) <= 1e-3 < float(short.error_estimate)
+    assert AccuracyWarning not in kinds
+    # both bound their distance to the same exact value
+    assert _relative_error(short, full) <= float(short.error_estimate) + float(full.error_estimate)

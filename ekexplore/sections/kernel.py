@@ -94,7 +94,7 @@ def _point_series(channel, bk, geo, k, accuracy, model, options):
 
 
 def _point_mesh(channel, bk, geo, k, n, accuracy, model, deadline, model_error=0.0):
-    """dh or pb at one point on three graded meshes, Richardson-extrapolated.
+    """dh or pb at one point on graded meshes, Richardson-extrapolated.
 
     Refines until the mesh error meets its target: ``accuracy``, or a tenth of
     ``model_error`` (the model's own a-priori error, for a dh point forced
@@ -136,7 +136,7 @@ def _point_mesh(channel, bk, geo, k, n, accuracy, model, deadline, model_error=0
         start = time.monotonic()
         rc, rf, err = levels(kind, dims, nk, lam, gouy, kl2, w, z, cond_name, value, model,
                              lam_c, conv_c)
-        spent = time.monotonic() - start
+        spent = max(time.monotonic() - start, 1e-6)
         if not bk.wall.dirichlet and kappa * L > _CHARGE_LAYER_K:
             err *= _CHARGE_LAYER_SAFETY
         if err <= target:
