@@ -47,6 +47,7 @@ from scipy import special
 
 from ._validate import as_float_array, broadcast_named, check_positive
 from .doublelayer import PB_PHI_MAX, wall_potential_estimate
+from .wall import isolated_wall_charge, isolated_wall_potential
 
 __all__ = ["ModelSpec", "MODEL_TABLE", "MODEL_NAMES", "MODEL_CHOICES", "PHI_MAX",
            "KAPPA_SIZE_RANGE", "ERROR_METHOD", "estimated_model_errors", "choose_models",
@@ -195,6 +196,7 @@ _SAFETY_THIN = MODEL_TABLE["thin"].safety["thin"][0]
 _SAFETY_DH = MODEL_TABLE["dh"].safety["dh"][0]
 _SAFETY_DH_CHARGE = MODEL_TABLE["dh"].safety["charge"][0]
 _DH_POTENTIAL_CAP = MODEL_TABLE["dh"].safety["potential_cap"][0]
+_SAFETY_DH_GAP = 1.5
 #: Weight of the overlapped (mean charge) term at charge walls, where the charge
 #: fixes <phi> - phi_w and the term enters only through the conduction.
 _DH_CHARGE_OVERLAP = 0.05
@@ -216,8 +218,63 @@ def _mean_factor(m, K):
     # flat sides with curved or cornered ends; the safety factors above cover
     # the interpolation, and tests/test_models.py checks the choice against pb
     return 0.5 * (_mean_factor(0, K) + _mean_factor(1, K))
+def _centre_factor(m, K):
+    """psi(centre)/psi(wall) of the Debye-Hueckel layer: 1/cosh K (slit), 1/I0(K)
+    (tube), their mean for sections; overflow-free."""
+    K = np.asarray(K, dtype=float)
+    if m == 0:
+        return 2.0 * np.exp(-K) / (1.0 + np.exp(-2.0 * K))
+    if m == 1:
+        return np.exp(-K) / special.ive(0, K)
+    return 0.5 * (_centre_factor(0, K) + _centre_factor(1, K))
+
+
+def _screening_ratio(z, weights, psi):
+    """rho(psi)/rho_linear(psi) = sum_i w_i z_i (1 - exp(-z_i psi)) / psi >= 0:
+    how much more (or less) a nonlinear layer at potential psi screens than the
+    linear one (sinh(Phi)/Phi for a symmetric salt). ``z`` (k,), ``weights``
+    (k, ...) or None (a symmetric salt of valence max|z|)."""
+    psi = np.asarray(psi, dtype=float)
+    if weights is None:
+        zc = float(np.max(np.abs(z)))
+        P = np.abs(zc * psi)
+        return np.where(P < 1e-6, 1.0, np.sinh(np.minimum(P, 700.0)) / np.maximum(P, 1e-300))
+    zb = np.asarray(z, dtype=float).reshape((-1,) + (1,) * np.ndim(psi))
+    w = np.asarray(weights, dtype=float)
+    w = w.reshape(w.shape + (1,) * (np.ndim(psi) + 1 - w.ndim))
+    small = np.abs(psi) < 1e-6
+    ps = np.where(small, 1.0, psi)
+    r = np.sum(w * zb * -np.expm1(np.minimum(-zb * ps, 700.0)), axis=0) / ps
+    lin = np.sum(w * zb**2, axis=0)
+    return np.where(small, lin, np.maximum(r, 0.0))
+
+
+def nonlinear_mean_factor(m, K, phi_wall, z=(1, -1), weights=None):
+    """Mean-potential factor <psi>/psi_w of a nonlinear layer, estimated without a solve.
+
+    The Debye-Hueckel factor at an effective kappa*half-size K sqrt(r(psi_c)),
+    r the screening ratio of :func:`_screening_ratio` at the centre potential
+    psi_c, which solves psi_c = psi_w C(K sqrt(r(psi_c))) (C the linear layer's
+    centre factor; bisection). A nonlinear layer screens at least as much as
+    the linear one at its smallest potential (a comparison argument for
+    symmetric salts), so this moves G toward the nonlinear value."""
+    K = np.asarray(K, dtype=float)
+    phi = np.asarray(phi_wall, dtype=float)
+    K, phi = np.broadcast_arrays(K, phi)
+    lo = np.zeros(K.shape)
+    hi = np.ones(K.shape)
+    for _ in range(48):
+        t = 0.5 * (lo + hi)
+        r = _screening_ratio(z, weights, t * phi)
+        up = t > _centre_factor(m, K * np.sqrt(r))
+        hi = np.where(up, t, hi)
+        lo = np.where(up, lo, t)
+    r = _screening_ratio(z, weights, lo * phi)
+    return _mean_factor(m, K * np.sqrt(r))
+
+
 def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry=0,
-                           condition="potential", weights=None):
+                           condition="potential", weights=None, phi_thin=None, phi_dh=None):
     """Estimated relative error of the thin and dh models on the coupling matrix.
 
     Parameters
@@ -266,11 +323,18 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     phi_wall = as_float_array("phi_wall", phi_wall)
     broadcast_named({"kappa_half_size": K.shape, "phi_wall": phi_wall.shape})
     G = _mean_factor(m, K)
-    thin = _SAFETY_THIN * G / np.maximum(1.0 - G, 1e-12)
-    if condition == "charge":
-        # a fixed charge sets <phi> - phi_w in overlapped layers, so the slip
-        # model's error there grows as 1/K, not as G/(1-G) ~ 1/K^2
-        thin = thin * np.tanh(K)
+    phi_t = phi_wall if phi_thin is None else as_float_array("phi_thin", phi_thin)
+    if condition == "potential":
+        Gn = nonlinear_mean_factor(m, K, phi_wall, valences, weights)
+        thin = _SAFETY_THIN * Gn / np.maximum(1.0 - Gn, 1e-12)
+    elif condition == "regulated":
+        Gn = nonlinear_mean_factor(m, K, phi_t, valences, weights)
+        thin = _SAFETY_THIN * Gn / np.maximum(1.0 - Gn, 1e-12)
+    else:
+        Gn = nonlinear_mean_factor(m, K, phi_wall, valences, weights)
+        ratio_t = np.abs(np.asarray(phi_t) / np.where(phi_wall == 0, 1.0, phi_wall))
+        ratio_t = np.where(phi_wall == 0, 1.0, ratio_t)
+        thin = _SAFETY_THIN * np.abs(ratio_t / np.maximum(1.0 - Gn, 1e-12) - 1.0)
     Phi = np.max(np.abs(valences)) * np.abs(np.asarray(phi_wall, dtype=float))
     Phi = np.minimum(Phi, 80.0)
     x = Phi / 2.0
@@ -292,11 +356,20 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
         zb = np.asarray(valences, dtype=float).reshape((-1,) + (1,) * (np.ndim(weights) - 1))
         skew = np.abs(np.sum(zb**3 * np.asarray(weights), axis=0)) * np.abs(
             np.asarray(phi_wall, dtype=float))
-    if condition == "potential":
+    if condition in ("potential", "regulated"):
         # asymmetric salts: first order in phi (exact when overlapped, about a
         # third of it in thin layers)
         ratio = ratio + skew / 2.0 * G * (G + (1.0 - G) / 3.0)
         dh = np.minimum(_SAFETY_DH * ratio, _DH_POTENTIAL_CAP)
+        if condition == "regulated":
+            # the sites balance dh's linear layer at phi_dh, pb's at a potential
+            # between the isolated wall's phi_thin (thin layers) and phi_dh
+            if phi_dh is None or phi_thin is None:
+                raise ValueError("phi_dh and phi_thin: a regulated wall's estimate needs "
+                                 "the wall potentials of the dh and thin models, got None")
+            pw = np.asarray(phi_wall, dtype=float)
+            gap = np.abs(as_float_array("phi_dh", phi_dh) - pw) / np.maximum(np.abs(pw), 1e-300)
+            dh = dh + _SAFETY_DH_GAP * np.minimum(gap, 1e6)
     else:
         # a charge (fixed or regulated) sets the wall potential through the
         # linear Grahame relation (thin layers) or the linear Donnan balance,
@@ -317,14 +390,14 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
 
 
 def choose_models(kappa_half_size, phi_wall, valences, geometry, tol, condition="potential",
-                  weights=None):
+                  weights=None, phi_thin=None, phi_dh=None):
     """Pick, per point, the cheapest model whose estimated error is below ``tol``.
 
     Returns (models, estimates): an array of "thin"/"dh"/"pb" and the dict
     from :func:`estimated_model_errors`.
     """
     est = estimated_model_errors(kappa_half_size, phi_wall, valences, geometry, condition,
-                                 weights)
+                                 weights, phi_thin, phi_dh)
     models = np.where(est["thin"] <= tol, "thin", np.where(est["dh"] <= tol, "dh", "pb"))
     return models, est
 
@@ -339,22 +412,44 @@ def auto_choice(b, geometry, geometry_factor, tol):
     (1 slit, 2 tube). A constant-charge wall's potential is estimated by
     :func:`ekexplore.doublelayer.wall_potential_estimate`.
     """
+    lin = None
     if b.wall.dirichlet:
-        phi_est = b.scaled_value
+        phi_est = iso = b.scaled_value
     elif b.wall.nonlinear:
-        # a charge-regulating wall: its isolated-wall potential, moved toward
-        # its (larger) potential against the linear layer of the section as the
-        # layers overlap (weight G): the linear layer screens less, so it bounds
-        # the overlapped potential from above. The linear layer's charge per
-        # potential is K tanh(K/geometry_factor): exact for the slit, both
-        # limits of the tube.
+        # a charge-regulating wall: thin's potential is that of the isolated
+        # wall, dh's that of the sites against the linear layer of the section
+        # (charge per potential K tanh K for the slit, K I1/I0 for the tube, K
+        # tanh(K/geometry_factor) for sections: both limits); pb's lies
+        # between, nearer the linear one as the layers overlap (weight G): the
+        # linear layer screens less, so it bounds the overlapped potential from
+        # above
+        m = geometry_index(geometry)
         iso = b.wall.isolated_potential(b.z, b.weights, b.K, b.scaled_value)
-        gf = np.broadcast_to(np.asarray(geometry_factor, dtype=float), b.K.shape)
-        lin = b.wall.linear_potential(b.K * np.tanh(b.K / gf), b.scaled_value)
-        G = _mean_factor(geometry_index(geometry), b.K)
-        phi_est = np.where(np.abs(lin) > np.abs(iso), iso + G * (lin - iso), iso)
+        if m == 0:
+            slope = b.K * np.tanh(b.K)
+        elif m == 1:
+            slope = b.K * special.ive(1, b.K) / special.ive(0, b.K)
+        else:
+            gf = np.broadcast_to(np.asarray(geometry_factor, dtype=float), b.K.shape)
+            slope = b.K * np.tanh(b.K / gf)
+        lin = b.wall.linear_potential(slope, b.scaled_value)
+        G = _mean_factor(m, b.K)
+        # pb's: the sites against the linear layer's charge times the nonlinear
+        # gain of a layer at the wall potential, isolated (Grahame charge over
+        # linear) in thin layers, uniform (mean charge over linear) when they
+        # overlap, weighted by G; asymmetric salts can gain less than 1 (pb's
+        # potential then above dh's)
+        zc = np.asarray(b.z, dtype=float)[:, None]
+
+        def diffuse(p):
+            pn = np.where(p == 0, 1e-300, p)
+            gain = ((1.0 - G) * isolated_wall_charge(zc, b.weights, pn) / pn
+                    + G * _screening_ratio(b.z, b.weights, pn))
+            return slope * p * gain
+        phi_est = b.wall._balance(b.scaled_value, diffuse, 40.0 / np.max(np.abs(b.z)))
     else:
         phi_est = wall_potential_estimate(b.z, b.weights, b.K, b.scaled_value, geometry_factor)
+        iso = isolated_wall_potential(b.z, b.weights, b.K, b.scaled_value)
     return choose_models(b.K, phi_est, b.z, geometry, tol, condition=b.wall.name,
-                         weights=b.weights)
+                         weights=b.weights, phi_thin=iso, phi_dh=lin)
 
