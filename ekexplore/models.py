@@ -46,7 +46,7 @@ import numpy as np
 from scipy import special
 
 from ._validate import as_float_array, broadcast_named, check_positive
-from .doublelayer import PB_PHI_MAX, wall_potential_estimate
+from .doublelayer import PB_PHI_MAX
 from .wall import isolated_wall_charge, isolated_wall_potential
 
 __all__ = ["ModelSpec", "MODEL_TABLE", "MODEL_NAMES", "MODEL_CHOICES", "PHI_MAX",
@@ -230,23 +230,36 @@ def _centre_factor(m, K):
 
 
 def _screening_ratio(z, weights, psi):
-    """rho(psi)/rho_linear(psi) = sum_i w_i z_i (1 - exp(-z_i psi)) / psi >= 0:
-    how much more (or less) a nonlinear layer at potential psi screens than the
-    linear one (sinh(Phi)/Phi for a symmetric salt). ``z`` (k,), ``weights``
-    (k, ...) or None (a symmetric salt of valence max|z|)."""
+    """rho(psi)/rho_linear(psi) = sum_i w_i z_i (1 - exp(-z_i psi)) / psi: how
+    much more (or less) a nonlinear layer at potential psi screens than the
+    linear one (sinh(Phi)/Phi for a symmetric salt, Phi = z psi). ``z`` (k,),
+    ``weights`` (k, ...) or None (a symmetric salt of valence max|z|)."""
     psi = np.asarray(psi, dtype=float)
-    if weights is None:
-        zc = float(np.max(np.abs(z)))
-        P = np.abs(zc * psi)
-        return np.where(P < 1e-6, 1.0, np.sinh(np.minimum(P, 700.0)) / np.maximum(P, 1e-300))
-    zb = np.asarray(z, dtype=float).reshape((-1,) + (1,) * np.ndim(psi))
-    w = np.asarray(weights, dtype=float)
-    w = w.reshape(w.shape + (1,) * (np.ndim(psi) + 1 - w.ndim))
-    small = np.abs(psi) < 1e-6
+    zb, w = _ions(z, weights, max(np.ndim(psi), 0 if weights is None else np.ndim(weights) - 1))
+    small = np.abs(psi) < 1e-8
     ps = np.where(small, 1.0, psi)
     r = np.sum(w * zb * -np.expm1(np.minimum(-zb * ps, 700.0)), axis=0) / ps
-    lin = np.sum(w * zb**2, axis=0)
-    return np.where(small, lin, np.maximum(r, 0.0))
+    return np.where(small, np.sum(w * zb**2, axis=0), np.maximum(r, 0.0))
+
+
+def _per_ion(a, ndim):
+    a = np.asarray(a, dtype=float)
+    return a.reshape(a.shape + (1,) * (ndim + 1 - a.ndim))
+
+
+def _ions(valences, weights, ndim):
+    """Valences (k, 1...) and weights (k, ...) for ``ndim`` point axes; a
+    symmetric salt of valence max|z| when ``weights`` is None."""
+    z = np.asarray(valences, dtype=float)
+    if weights is None:
+        zc = float(np.max(np.abs(z)))
+        z = np.array([zc, -zc])
+        w = np.full(2, 0.5 / zc**2)
+    else:
+        w = np.asarray(weights, dtype=float)
+    zb = z.reshape((-1,) + (1,) * ndim)
+    w = w.reshape(w.shape + (1,) * (ndim + 1 - w.ndim))
+    return zb, w
 
 
 def nonlinear_mean_factor(m, K, phi_wall, z=(1, -1), weights=None):
@@ -274,7 +287,8 @@ def nonlinear_mean_factor(m, K, phi_wall, z=(1, -1), weights=None):
 
 
 def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry=0,
-                           condition="potential", weights=None, phi_thin=None, phi_dh=None):
+                           condition="potential", weights=None, phi_thin=None, phi_dh=None,
+                           conduction_weights=None, dukhin_m=None):
     """Estimated relative error of the thin and dh models on the coupling matrix.
 
     Parameters
@@ -335,73 +349,145 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
         ratio_t = np.abs(np.asarray(phi_t) / np.where(phi_wall == 0, 1.0, phi_wall))
         ratio_t = np.where(phi_wall == 0, 1.0, ratio_t)
         thin = _SAFETY_THIN * np.abs(ratio_t / np.maximum(1.0 - Gn, 1e-12) - 1.0)
-    Phi = np.max(np.abs(valences)) * np.abs(np.asarray(phi_wall, dtype=float))
-    Phi = np.minimum(Phi, 80.0)
+    K, phi = np.broadcast_arrays(K, np.asarray(phi_wall, dtype=float))
+    if weights is not None:
+        weights = np.asarray(weights, dtype=float)
+        weights = weights.reshape(weights.shape + (1,) * (K.ndim + 1 - weights.ndim))
+    zb, w = _ions(valences, weights, K.ndim)
+    zmax = float(np.max(np.abs(zb)))
+    phi = np.sign(phi) * np.minimum(np.abs(phi), 80.0 / zmax)
+    # the counter-ion sets the nonlinearity: Phi = max_i(-z_i phi) over the ions
+    # present (max|z| |phi| for a symmetric salt)
+    Phi = np.max(np.where(w > 0, -zb * phi, -np.inf), axis=0)
+    Phi = np.maximum(Phi, 0.0)
     x = Phi / 2.0
     small = Phi < 1e-3
     Ps = np.where(small, 1.0, Phi)
     xs = Ps / 2.0
-    # overlapped layers: the mean charge goes as sinh(Phi) against Phi
-    overlap = np.where(small, Phi**2 / 6.0, np.sinh(np.minimum(Ps, 700.0)) / Ps - 1.0)
+    # overlapped layers: the mean charge f(phi) = sum_i w_i z_i (exp(-z_i phi) - 1)
+    # against -phi (sinh(Phi)/Phi for a symmetric salt; first order in phi for
+    # an asymmetric one)
+    overlap = np.abs(_screening_ratio(valences, w, phi) - 1.0)
     # thin layers: electro-osmosis (the Gouy-Chapman mean potential against the
     # linear one, 4 chi2(tanh(Phi/4)) against Phi: ~ Phi^2/72) and conduction (the
     # diffuse-layer excess 4(cosh(Phi/2)-1) against Phi^2/2, relative to the total)
     chi2 = 0.5 * (special.spence(1.0 - np.tanh(Ps / 4.0)) - special.spence(1.0 + np.tanh(Ps / 4.0)))
     thin_eo = np.where(small, Phi**2 / 72.0, 1.0 - 4.0 * chi2 / Ps)
-    excess = 4.0 * np.where(small, x**2 / 2.0, np.cosh(np.minimum(xs, 350.0)) - 1.0)
-    thin_cond = G * np.abs(excess - Phi**2 / 2.0) / (1.0 + G * excess)
-    ratio = G**2 * overlap + G * thin_eo + thin_cond
-    skew = 0.0
-    if weights is not None:
-        zb = np.asarray(valences, dtype=float).reshape((-1,) + (1,) * (np.ndim(weights) - 1))
-        skew = np.abs(np.sum(zb**3 * np.asarray(weights), axis=0)) * np.abs(
-            np.asarray(phi_wall, dtype=float))
+    # thin-layer conduction, per ion i: Bikerman's excess of a flat layer,
+    # (1 + 3 m_i/z_i^2) I_i with I_i = int (exp(-z_i psi) - 1) dX = 2(exp(-z_i
+    # phi/2) - 1) for a symmetric salt (migration and convection), against dh's
+    # migration -z_i phi + z_i^2 phi^2/4 and convection (3 m_i/z_i^2) z_i^2
+    # phi^2/4, each weighted by the ion's share of the bulk conductivity; the
+    # first-order terms cancel in the sum. A counter-ion that dominates the
+    # layer has |dpsi/dX| = sqrt(2 w_i) exp(-z_i psi/2), so its excess is 2 f_i
+    # exp(Phi_i/2), f_i = 1/(|z_i| sqrt(2 w_i)) (1 for a symmetric salt); the
+    # linear part is kept exact
+    cw = zb**2 * w if conduction_weights is None else _per_ion(conduction_weights, K.ndim)
+    mi = 1.0 / 3.0 if dukhin_m is None else _per_ion(dukhin_m, K.ndim)
+    a = 3.0 * mi / zb**2
+    zp = zb * phi
+    f = np.where(zp < 0, 1.0 / (np.abs(zb) * np.sqrt(2.0 * np.maximum(w, 1e-300))), 1.0)
+    I_gc = 2.0 * (f * np.expm1(np.minimum(-zp / 2.0, 350.0)) + (f - 1.0) * zp / 2.0)
+    ex_gc = np.sum(cw * (1.0 + a) * I_gc, axis=0)
+    ex_lin = np.sum(cw * (-zp + (1.0 + a) * zp**2 / 4.0), axis=0)
+    thin_cond = G * np.abs(ex_gc - ex_lin) / (1.0 + G * np.maximum(ex_gc, 0.0))
+    # asymmetric salts: the Boltzmann factor's quadratic term, first order in phi
+    skew = np.abs(np.sum(zb**3 * w, axis=0)) * np.abs(phi)
     if condition in ("potential", "regulated"):
-        # asymmetric salts: first order in phi (exact when overlapped, about a
-        # third of it in thin layers)
-        ratio = ratio + skew / 2.0 * G * (G + (1.0 - G) / 3.0)
+        # the overlapped term carries the asymmetry exactly; in thin layers
+        # about a third of it
+        # overlapped conduction at the wall potential: sum cw (exp(-z phi) - 1)
+        # against dh's sum cw (-z phi + z^2 phi^2/2)
+        ex_pb = np.sum(cw * np.expm1(np.minimum(-zp, 700.0)), axis=0)
+        ex_dh = np.sum(cw * (-zp + zp**2 / 2.0), axis=0)
+        overlap_cond = np.abs(ex_dh - ex_pb) / (1.0 + np.abs(ex_pb))
+        ratio = (G**2 * (overlap + overlap_cond) + G * thin_eo + thin_cond
+                 + skew / 2.0 * G * (1.0 - G) / 3.0)
         dh = np.minimum(_SAFETY_DH * ratio, _DH_POTENTIAL_CAP)
         if condition == "regulated":
-            # the sites balance dh's linear layer at phi_dh, pb's at a potential
-            # between the isolated wall's phi_thin (thin layers) and phi_dh
-            if phi_dh is None or phi_thin is None:
-                raise ValueError("phi_dh and phi_thin: a regulated wall's estimate needs "
-                                 "the wall potentials of the dh and thin models, got None")
+            # the sites balance dh's linear layer at phi_dh, pb's layer at about
+            # phi_wall (auto_choice's estimate of pb's potential)
+            if phi_dh is None:
+                raise ValueError("phi_dh: a regulated wall's estimate needs the wall "
+                                 "potential of the dh model, got None")
             pw = np.asarray(phi_wall, dtype=float)
             gap = np.abs(as_float_array("phi_dh", phi_dh) - pw) / np.maximum(np.abs(pw), 1e-300)
             dh = dh + _SAFETY_DH_GAP * np.minimum(gap, 1e6)
     else:
-        # a charge (fixed or regulated) sets the wall potential through the
-        # linear Grahame relation (thin layers) or the linear Donnan balance,
-        # whose conduction grows as sinh(Phi)^2/2 against cosh(Phi) - 1
-        grahame = np.where(small, Phi**2 / 24.0, 2.0 * np.sinh(np.minimum(xs, 350.0)) / Ps - 1.0)
-        Pc = np.minimum(Ps, 30.0)
-        overlap_cond = np.where(small, Phi**4 / 8.0,
-                                np.abs(1.0 + np.sinh(Pc)**2 / 2.0 - np.cosh(Pc)) / np.cosh(Pc))
+        # a fixed charge sets the wall potential through the linear Grahame
+        # relation in thin layers: the Grahame charge over the linear one at
+        # the wall potential (2 sinh(Phi/2)/Phi for a symmetric salt), weight
+        # 1 - G; in overlapped layers through the linear Donnan balance, whose
+        # conduction excess sum z^2 w (-z phi_L + z^2 phi_L^2/2) (phi_L = f(phi)/(-phi)
+        # phi, dh's potential) stands against sum z^2 w (exp(-z phi) - 1) (for a
+        # symmetric salt sinh(Phi)^2/2 against cosh(Phi) - 1), weight G
+        pn = np.where(phi == 0, 1.0, phi)
+        gain = np.where(phi == 0, 1.0, isolated_wall_charge(zb, w, pn) / pn)
+        grahame = np.abs(gain - 1.0)
+        phi_l = _screening_ratio(valences, w, phi) * phi
+        ex_pb = np.sum(cw * np.expm1(-zb * phi), axis=0)
+        ex_dh = np.sum(cw * (-zb * phi_l + (zb * phi_l)**2 / 2.0), axis=0)
+        overlap_cond = np.abs(ex_dh - ex_pb) / (1.0 + np.abs(ex_pb))
         # a fixed charge fixes <phi> - phi_w of overlapped layers, so the mean
-        # charge term enters only through the conduction; a regulated charge
-        # follows the (overlapped) potential, so it keeps the full term
-        overlap_weight = G**2 if condition == "regulated" else _DH_CHARGE_OVERLAP * G
-        ratio = (ratio - G**2 * overlap + overlap_weight * overlap
-                 + (1.0 - G) * grahame + G * overlap_cond + skew / 6.0)
+        # charge term enters only through the conduction
+        ratio = (_DH_CHARGE_OVERLAP * G * (1.0 - G) * overlap + G * thin_eo + thin_cond
+                 + (1.0 - G) * grahame + G * overlap_cond)
         dh = _SAFETY_DH_CHARGE * ratio
     thin, dh = np.broadcast_arrays(np.minimum(thin, 1e6), np.minimum(dh, 1e6))
     return {"thin": thin, "dh": dh}
 
 
 def choose_models(kappa_half_size, phi_wall, valences, geometry, tol, condition="potential",
-                  weights=None, phi_thin=None, phi_dh=None):
+                  weights=None, phi_thin=None, phi_dh=None, conduction_weights=None,
+                  dukhin_m=None):
     """Pick, per point, the cheapest model whose estimated error is below ``tol``.
 
     Returns (models, estimates): an array of "thin"/"dh"/"pb" and the dict
     from :func:`estimated_model_errors`.
     """
     est = estimated_model_errors(kappa_half_size, phi_wall, valences, geometry, condition,
-                                 weights, phi_thin, phi_dh)
+                                 weights, phi_thin, phi_dh, conduction_weights, dukhin_m)
     models = np.where(est["thin"] <= tol, "thin", np.where(est["dh"] <= tol, "dh", "pb"))
     return models, est
 
 
+
+
+def _linear_slope(m, K, geometry_factor):
+    """Scaled charge per scaled wall potential of the linear layer: K tanh K
+    (slit), K I1/I0 (tube), K tanh(K/geometry_factor) for sections (both limits)."""
+    if m == 0:
+        return K * np.tanh(K)
+    if m == 1:
+        return K * special.ive(1, K) / special.ive(0, K)
+    return K * np.tanh(K / geometry_factor)
+
+
+def _layer_gain(z, weights, G, phi):
+    """Charge of a nonlinear layer at wall potential phi over the linear
+    one's: isolated (Grahame charge over linear) in thin layers, uniform (mean
+    charge over linear) when they overlap; geometric mean with weights 1 - G
+    and G (an arithmetic one lets the exponentially larger uniform gain
+    dominate thin layers)."""
+    zc = np.asarray(z, dtype=float)[:, None]
+    pn = np.where(phi == 0, 1e-300, phi)
+    g_iso = np.maximum(isolated_wall_charge(zc, weights, pn) / pn, 1e-300)
+    g_uni = np.maximum(_screening_ratio(z, weights, pn), 1e-300)
+    return np.exp((1.0 - G) * np.log(g_iso) + G * np.log(g_uni))
+
+
+def _layer_potential(z, weights, G, slope, sigma_s):
+    """Scaled wall potential at which the nonlinear layer of the channel
+    (slope phi gain(phi)) holds the scaled charge ``sigma_s``: bisection."""
+    lim = 80.0 / np.max(np.abs(z))
+    lo = np.full(np.shape(sigma_s), -lim)
+    hi = -lo
+    for _ in range(64):
+        mid = 0.5 * (lo + hi)
+        up = slope * mid * _layer_gain(z, weights, G, mid) - sigma_s < 0
+        lo = np.where(up, mid, lo)
+        hi = np.where(up, hi, mid)
+    return 0.5 * (lo + hi)
 
 
 def auto_choice(b, geometry, geometry_factor, tol):
@@ -409,10 +495,13 @@ def auto_choice(b, geometry, geometry_factor, tol):
 
     ``b`` is a :class:`ekexplore._state.Batch` with the channel's half-size
     as its length; ``geometry_factor`` is perimeter x half-size / area
-    (1 slit, 2 tube). A constant-charge wall's potential is estimated by
-    :func:`ekexplore.doublelayer.wall_potential_estimate`.
+    (1 slit, 2 tube). The wall potential of a charge (fixed or regulated) is
+    estimated without a solve: pb's (where the channel's nonlinear layer holds
+    the charge, :func:`_layer_potential`), thin's (the isolated wall) and, for
+    a regulated wall, dh's (the sites against the linear layer).
     """
     lin = None
+    lam = b.molar_conductivity * b.c      # each ion's share of the bulk conductivity
     if b.wall.dirichlet:
         phi_est = iso = b.scaled_value
     elif b.wall.nonlinear:
@@ -425,31 +514,28 @@ def auto_choice(b, geometry, geometry_factor, tol):
         # above
         m = geometry_index(geometry)
         iso = b.wall.isolated_potential(b.z, b.weights, b.K, b.scaled_value)
-        if m == 0:
-            slope = b.K * np.tanh(b.K)
-        elif m == 1:
-            slope = b.K * special.ive(1, b.K) / special.ive(0, b.K)
-        else:
-            gf = np.broadcast_to(np.asarray(geometry_factor, dtype=float), b.K.shape)
-            slope = b.K * np.tanh(b.K / gf)
+        gf = np.broadcast_to(np.asarray(geometry_factor, dtype=float), b.K.shape)
+        slope = _linear_slope(m, b.K, gf)
         lin = b.wall.linear_potential(slope, b.scaled_value)
         G = _mean_factor(m, b.K)
-        # pb's: the sites against the linear layer's charge times the nonlinear
-        # gain of a layer at the wall potential, isolated (Grahame charge over
-        # linear) in thin layers, uniform (mean charge over linear) when they
-        # overlap, weighted by G; asymmetric salts can gain less than 1 (pb's
-        # potential then above dh's)
-        zc = np.asarray(b.z, dtype=float)[:, None]
+        # pb's: the sites against the channel's nonlinear layer (the linear
+        # layer's charge times the gain of _layer_gain; asymmetric salts can
+        # gain less than 1, pb's potential then above dh's)
 
         def diffuse(p):
-            pn = np.where(p == 0, 1e-300, p)
-            gain = ((1.0 - G) * isolated_wall_charge(zc, b.weights, pn) / pn
-                    + G * _screening_ratio(b.z, b.weights, pn))
-            return slope * p * gain
+            return slope * p * _layer_gain(b.z, b.weights, G, p)
         phi_est = b.wall._balance(b.scaled_value, diffuse, 40.0 / np.max(np.abs(b.z)))
     else:
-        phi_est = wall_potential_estimate(b.z, b.weights, b.K, b.scaled_value, geometry_factor)
+        # a fixed charge: the potential at which the channel's nonlinear layer
+        # holds it (isolated in thin layers, Donnan-like when they overlap;
+        # the linear layer's charge per potential carries the curvature)
+        m = geometry_index(geometry)
+        gf = np.broadcast_to(np.asarray(geometry_factor, dtype=float), b.K.shape)
+        phi_est = _layer_potential(b.z, b.weights, _mean_factor(m, b.K),
+                                   _linear_slope(m, b.K, gf), b.scaled_value)
         iso = isolated_wall_potential(b.z, b.weights, b.K, b.scaled_value)
     return choose_models(b.K, phi_est, b.z, geometry, tol, condition=b.wall.name,
-                         weights=b.weights, phi_thin=iso, phi_dh=lin)
+                         weights=b.weights, phi_thin=iso, phi_dh=lin,
+                         conduction_weights=lam / np.sum(lam, axis=0),
+                         dukhin_m=2.0 * b.eps * b.VT**2 / (3.0 * b.eta * b.D))
 
