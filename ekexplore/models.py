@@ -10,26 +10,46 @@ The cheap models fail in known ways, and their errors have simple
 estimates:
 
 ``thin`` ignores the finite thickness of the double layer. Its error on the
-electro-osmotic coefficient is, in the Debye–Hückel regime, exactly
-:math:`G/(1-G)` (at a fixed charge, which sets the mean potential of
-overlapped layers, about :math:`G\tanh K/(1-G)`), where :math:`G = \langle\psi\rangle/\zeta` is the
-Debye–Hückel mean-potential factor (tanh K/K for a slit, 2 I1/(K I0) for a
-tube; K = kappa x half-size). Nonlinear screening thins the layer and makes
-the real error smaller, so this is an upper estimate; the same factor bounds
-the error of its surface conduction.
+electro-osmotic coefficient is exactly :math:`g/(1-g)`, where
+:math:`g = \langle\psi\rangle/\zeta` is the mean-potential factor of the
+layer. The Debye–Hückel factor G (tanh K/K for a slit, 2 I1/(K I0) for a
+tube; K = kappa x half-size) overstates g once the layer is nonlinear:
+counter-ions crowd in and screen it faster. The estimate takes G at an
+effective K sqrt(r(psi_c)), r the nonlinear over the linear charge density
+at the centre potential psi_c of the channel (sinh(Phi)/Phi for a symmetric
+salt), which solves psi_c = zeta C(K sqrt(r(psi_c))) (C the linear centre
+factor): at kappa a = 0.01 and |z e zeta/kT| = 20 G/(1-G) is 3e4 and the
+true error about 1.6. At a fixed charge thin sees the isolated wall's
+potential zeta_iso and pb a larger one zeta_pb (its layer is confined): the
+error is then |zeta_iso/(zeta_pb (1 - g)) - 1| with zeta_pb estimated from
+the channel's nonlinear layer. A regulated wall's charge follows its
+potential, so thin's error is at most g/(1-g) at zeta_iso. The same factor
+bounds the error of its surface conduction.
 
-``dh`` linearises the Boltzmann factor. Its error grows as the square of
-:math:`\Phi = \max_i|z_i|\,e|\zeta|/kT` (first order for asymmetric salts),
-with a leading term per regime, each weighted by how much of the section
-that regime fills: in overlapped layers the mean charge goes as sinh(Phi)
-against Phi (weight G²); in thin layers the Gouy–Chapman mean potential
-4 chi2(tanh(Phi/4)) against Phi for electro-osmosis and the diffuse-layer
-excess 4(cosh(Phi/2) - 1) against Phi²/2 for conduction (weight G, the
-share of the section in the layer); at charge walls the linear Grahame
-relation, 2 sinh(Phi/2)/Phi against 1 (weight 1 - G), and the overlapped
-conduction. At constant potential dh underestimates every coefficient, so
-its error stays below 1 and the estimate is capped at 2. Safety factors
-and their measured reasons are in the table.
+``dh`` linearises the Boltzmann factor. Its error is the sum of the leading
+error of each regime, each weighted by how much of the section that regime
+fills (G² or G for overlapped layers, G or 1 - G for thin ones), and each
+computed ion by ion for any mixture: in overlapped layers the mean charge,
+sum_i w_i z_i (exp(-z_i phi) - 1) against -phi (sinh(Phi)/Phi for a
+symmetric salt, first order in phi for an asymmetric one), and the
+conduction, sum_i c_i (exp(-z_i phi) - 1) against dh's second-order
+-z_i phi + z_i² phi²/2, weighted by each ion's share c_i of the bulk
+conductivity (so that unequal mobilities cancel as they do in the real
+current); in thin layers the Gouy–Chapman mean potential against the linear
+one for electro-osmosis (Phi = the counter-ion's |z e zeta/kT|), and for
+the conduction Bikerman's excess of a flat layer, (1 + 3m_i/z_i²) times
+2(exp(-z_i phi/2) - 1) per ion (migration and convection, m_i the ion's
+electro-osmotic to migration ratio), against dh's. At constant potential dh
+underestimates every coefficient, so its error stays below 1 and the estimate
+is capped at 2. At a fixed charge the linear Grahame relation adds its error
+(the Grahame charge over the linear one at the wall potential, weight 1 - G)
+and the overlapped conduction is that of the linear Donnan balance; the wall
+potential is where the channel's nonlinear layer (the linear layer's charge,
+with its curvature, times the geometric mean of the isolated and uniform
+gains) holds the charge. At a regulated wall the sites balance dh's linear
+layer at zeta_dh and pb's at about zeta_pb (the same nonlinear layer): the
+estimate is the constant-potential one at zeta_pb plus |zeta_dh -
+zeta_pb|/|zeta_pb|. Safety factors and their measured reasons are in the table.
 
 ``pb`` is the reference; its own error is that of its Richardson-extrapolated
 value, from the extrapolations with coarser grids (1D: n/sqrt(2) and n/2
@@ -111,20 +131,29 @@ MODEL_TABLE = {
         validated="accurate when kappa*half-size >> 1 (error about (m+1)/K)",
         accurate_error=0.1,
         accurate_range="estimated error at most 10 %: kappa*half-size above about 15",
-        error="G/(1-G) with G the Debye-Hueckel mean-potential factor at kappa*half-size "
-              "(times tanh(K) at constant-charge walls), times a safety factor",
-        safety={"thin": (1.5, "G/(1-G) is exact for the electro-osmotic coefficient in the "
-                              "Debye-Hueckel regime; against pb on about 20,000 random slit "
-                              "and tube points (KCl, CaCl2, Na2SO4, both walls, K 0.1-1e4) "
-                              "the largest coefficient error reached 1.07 times it (Na2SO4, "
-                              "K 8-17, Phi about 1.5), so 1.5 keeps a margin of 1.4 "
-                              "(measured 2026-12; checked in tests/test_models.py)"),
-                "charge": (1.0, "at a constant-charge wall the estimate is multiplied by "
-                                "tanh(K): the charge fixes <phi> - phi_w of overlapped layers, "
-                                "and the error grows as 1/K there, not 1/K^2; against pb on "
-                                "3,590 random points the plain G/(1-G) was 10-830 times the "
-                                "error below K = 0.1, G/(1-G) tanh(K) 0.93-43 (median 1.0 "
-                                "slit, 2.0 tube) before the factor 1.5 (measured 2026-12)")}),
+        error="g/(1-g) with g the Debye-Hueckel mean-potential factor at an effective "
+              "kappa*half-size K sqrt(r(psi_c)) (r the nonlinear over the linear charge at "
+              "the channel's centre potential psi_c); at constant-charge walls "
+              "|zeta_iso/(zeta_pb (1-g)) - 1| (thin's isolated-wall potential against pb's), "
+              "at regulated walls g/(1-g) at zeta_iso; times a safety factor",
+        safety={"thin": (1.5, "g/(1-g) is exact for the electro-osmotic coefficient given "
+                              "the layer's true mean potential; the effective K moves the "
+                              "Debye-Hueckel factor toward the nonlinear one. Against pb on "
+                              "4,795 random slit and tube points (KCl, CaCl2, Na2SO4, "
+                              "0.01-100 mM, constant potential, constant charge, regulated "
+                              "silica, alumina and a user-defined surface at pH 4-10; K 1e-3-"
+                              "1e5, |z e zeta/kT| to 20) the estimate was 1.25-18 times the "
+                              "true error (median 1.7, 99.8 % within 1-10; with the plain "
+                              "Debye-Hueckel G/(1-G) 1.27-17,150, median 1.9, 91 %, the worst "
+                              "at K ~ 0.01-0.1 and high |zeta|), so 1.5 keeps a margin of "
+                              "1.25 (benchmarks/estimate_ratios.py, measured 2026-12; checked "
+                              "in tests/test_models.py)"),
+                "charge": (1.0, "at a constant-charge wall thin's potential is the isolated "
+                                "wall's and pb's the confined layer's, which is larger when "
+                                "the layers overlap: the error grows as 1/K there, not "
+                                "1/K^2; the ratio of the two potentials carries it (the "
+                                "earlier tanh(K) factor: 1.4-120 times the error, 98 % within "
+                                "1-10; now 1.25-5.9, 100 %; same points)")}),
     "dh": ModelSpec(
         name="dh",
         summary="Debye-Hueckel (linearised Poisson-Boltzmann) closed forms or linear 2D "
@@ -133,37 +162,45 @@ MODEL_TABLE = {
         validated="accurate when Phi << 1 (error about Phi^2/48 in conduction)",
         accurate_error=0.1,
         accurate_range="estimated error at most 10 %: max|z| e|zeta|/kT below about 0.3-1",
-        error="sum of the leading errors of each regime, weighted by the Debye-Hueckel mean "
-              "factor G: overlapped G^2 (sinh(Phi)/Phi - 1); thin-layer electro-osmosis "
-              "G (1 - 4 chi2(tanh(Phi/4))/Phi) and conduction G |4(cosh(Phi/2)-1) - Phi^2/2| / "
-              "(1 + 4 G (cosh(Phi/2)-1)); asymmetric salts |sum z^3 w| |phi|/2 G (G + (1-G)/3); "
-              "at charge walls the linear Grahame relation (1-G)(2 sinh(Phi/2)/Phi - 1), the "
-              "overlapped conduction G |1 + sinh^2(Phi)/2 - cosh(Phi)|/cosh(Phi) and "
-              "|sum z^3 w| |phi|/6; times safety factors",
+        error="sum of the leading errors of each regime, per ion for any mixture, weighted "
+              "by the Debye-Hueckel mean factor G: overlapped G^2 (mean charge "
+              "sum w z (exp(-z phi) - 1) against -phi, and conduction sum c (exp(-z phi) - 1) "
+              "against -z phi + z^2 phi^2/2, c the ion's share of the bulk conductivity); "
+              "thin-layer electro-osmosis G (1 - 4 chi2(tanh(Phi/4))/Phi), Phi the "
+              "counter-ion's; thin-layer conduction G |sum c ((1 + 3m/z^2) 2(exp(-z phi/2) - "
+              "1) - (-z phi + (1 + 3m/z^2) z^2 phi^2/4))| (Bikerman's excess, migration and "
+              "convection); asymmetric salts |sum z^3 w| |phi| G (1-G)/6; at charge walls the "
+              "linear Grahame relation (1-G) |Grahame charge/linear - 1| and the linear "
+              "Donnan balance's conduction; at regulated walls the constant-potential terms "
+              "plus |zeta_dh - zeta_pb|/|zeta_pb|; times safety factors",
         safety={"dh": (1.5, "each term is the leading error of its regime (exact in its "
                             "limit: at constant potential the overlapped and asymmetric-salt "
                             "terms reached 1.00 times the true error at kappa*half-size "
                             "0.01, the thin-layer electro-osmosis term 1.05 times at 20); "
-                            "1.5 keeps a margin of 1.5 there. On 2,390 random slit and tube "
-                            "points (KCl, CaCl2, Na2SO4, both walls, K 1e-2-1e4, |z e "
-                            "zeta/kT| to 20) the estimate was 1.28-1,450 times the true "
-                            "error against pb, median 1.9, 88 % within 1-10 (the plain "
-                            "blend of the earlier table: 2.6-1.4e6, median 18, 34 % within "
-                            "1-10) (measured 2026-12; checked in tests/test_models.py)"),
+                            "1.5 keeps a margin of 1.5 there. On 1,251 random slit and tube "
+                            "points at constant potential and charge (KCl, CaCl2, Na2SO4, "
+                            "0.01-100 mM, K 1e-3-1e5, |z e zeta/kT| to 20 of either sign) "
+                            "the estimate was 1.2-26 times the true error against pb, median "
+                            "2.0, 98.7-99.5 % within 1-10 (the earlier table, with "
+                            "Phi = max|z| e|zeta|/kT and equal mobilities: 1.03-1,272, median "
+                            "2.2, 78-95 %) (benchmarks/estimate_ratios.py, measured "
+                            "2026-12; checked in tests/test_models.py)"),
                 "potential_cap": (2.0, "at a constant-potential wall dh screens less than pb, "
                                        "so it underestimates every coefficient: the true "
                                        "error stayed below 1 (largest 0.9998 on the same "
                                        "points); the estimate is capped at 2"),
-                "charge": (2.0, "at a constant-charge (or regulated) wall: the same terms plus "
-                                "the wall-potential error of the linear Grahame relation; "
-                                "with 1.5 the smallest ratio measured was 0.97 (KCl, tube), "
-                                "so 2. A regulated wall keeps the full overlapped term (its "
-                                "charge follows the overlapped potential) and its potential "
-                                "estimate moves toward its linear-layer potential as G grows "
-                                "(auto_choice): 2.1 times the error at least on 320 random "
-                                "silica points (pH 4-10, KCl and CaCl2 0.01-100 mM, K 1e-2-"
-                                "1e4), but with median 17-100 and a long pessimistic tail "
-                                "(the earlier table: 0.70 at least)")}),
+                "charge": (2.0, "at a constant-charge wall: the same terms plus the "
+                                "wall-potential error of the linear Grahame relation; with "
+                                "1.5 the smallest ratio measured was 0.97 (KCl, tube), so 2"),
+                "regulated": (1.5, "at a regulated wall the sites balance dh's linear layer "
+                                   "at zeta_dh, pb's nonlinear one at about zeta_pb: the gap "
+                                   "|zeta_dh - zeta_pb|/|zeta_pb| (exact for thin layers, "
+                                   "where zeta_pb is the isolated wall's) times 1.5 is added "
+                                   "to the constant-potential estimate. On 2,875 random "
+                                   "silica, alumina and user-defined points (pH 4-10, KCl, "
+                                   "CaCl2, Na2SO4 0.01-100 mM, K 1e-2-1e4) 1.13-265 times "
+                                   "the error, median 2.5, 92-96 % within 1-10 (the "
+                                   "earlier estimate: 0.74-7.2e6, median 57-135, 15-23 %)")}),
     "pb": ModelSpec(
         name="pb",
         summary="the nonlinear Poisson-Boltzmann equation solved on wall-resolving grids "
@@ -196,9 +233,11 @@ _SAFETY_THIN = MODEL_TABLE["thin"].safety["thin"][0]
 _SAFETY_DH = MODEL_TABLE["dh"].safety["dh"][0]
 _SAFETY_DH_CHARGE = MODEL_TABLE["dh"].safety["charge"][0]
 _DH_POTENTIAL_CAP = MODEL_TABLE["dh"].safety["potential_cap"][0]
-_SAFETY_DH_GAP = 1.5
+_SAFETY_DH_GAP = MODEL_TABLE["dh"].safety["regulated"][0]
 #: Weight of the overlapped (mean charge) term at charge walls, where the charge
-#: fixes <phi> - phi_w and the term enters only through the conduction.
+#: fixes <phi> - phi_w and the term enters only through the conduction; times
+#: G (1 - G), so it vanishes in both limits (times G alone it was up to 40 times
+#: the true error in overlapped layers of asymmetric salts at low potential).
 _DH_CHARGE_OVERLAP = 0.05
 
 
@@ -262,7 +301,7 @@ def _ions(valences, weights, ndim):
     return zb, w
 
 
-def nonlinear_mean_factor(m, K, phi_wall, z=(1, -1), weights=None):
+def _nonlinear_mean_factor(m, K, phi_wall, z=(1, -1), weights=None):
     """Mean-potential factor <psi>/psi_w of a nonlinear layer, estimated without a solve.
 
     The Debye-Hueckel factor at an effective kappa*half-size K sqrt(r(psi_c)),
@@ -296,19 +335,32 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     kappa_half_size : array_like
         K = kappa x half-size [-].
     phi_wall : array_like
-        Scaled wall potential e zeta / kT [-] (estimate for charge walls).
+        Scaled wall potential e zeta / kT [-] of the pb solution (an estimate
+        for charge and regulated walls, see :func:`auto_choice`).
     valences : sequence of int
-        Ion valences; the largest |z| sets the nonlinearity.
+        Ion valences.
     geometry : int or str
         0 or "slit", 1 or "tube", "section" for 2D shapes.
-    condition : {"potential", "charge"}
-        Wall condition; constant charge doubles the dh estimate, since the
-        linear Grahame relation adds its own error.
+    condition : {"potential", "charge", "regulated"}
+        Wall condition. A constant charge adds the error of the linear Grahame
+        relation; a regulated wall the gap between dh's and pb's potentials.
     weights : array_like, optional
-        c_i / sum_j z_j^2 c_j per ion, shape (n_ions, ...). For asymmetric
-        mixtures the Boltzmann factor has a quadratic term, so dh errs at first
-        order in Phi: the estimate adds |sum z_i^3 w_i| Phi / 2. Default: a
-        symmetric salt.
+        c_i / sum_j z_j^2 c_j per ion, shape (n_ions, ...). Default: a
+        symmetric salt of valence max|z|.
+    phi_thin : array_like, optional
+        Scaled wall potential of the thin model (the isolated wall's) at
+        charge and regulated walls [-]. Default ``phi_wall``.
+    phi_dh : array_like, optional
+        Scaled wall potential of the dh model [-]; required for a regulated
+        wall.
+    conduction_weights : array_like, optional
+        Each ion's share of the bulk conductivity, lambda_i c_i / sum_j
+        lambda_j c_j, shape (n_ions, ...). Default z_i^2 w_i (equal
+        diffusivities).
+    dukhin_m : array_like, optional
+        Each ion's ratio of electro-osmotic to migration transport, m_i = 2 eps
+        (kT/e)^2 / (3 eta D_i) [-], shape (n_ions, ...). Default 1/3 (about
+        that of small ions in water at 25 °C).
 
     Returns
     -------
@@ -339,13 +391,13 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     G = _mean_factor(m, K)
     phi_t = phi_wall if phi_thin is None else as_float_array("phi_thin", phi_thin)
     if condition == "potential":
-        Gn = nonlinear_mean_factor(m, K, phi_wall, valences, weights)
+        Gn = _nonlinear_mean_factor(m, K, phi_wall, valences, weights)
         thin = _SAFETY_THIN * Gn / np.maximum(1.0 - Gn, 1e-12)
     elif condition == "regulated":
-        Gn = nonlinear_mean_factor(m, K, phi_t, valences, weights)
+        Gn = _nonlinear_mean_factor(m, K, phi_t, valences, weights)
         thin = _SAFETY_THIN * Gn / np.maximum(1.0 - Gn, 1e-12)
     else:
-        Gn = nonlinear_mean_factor(m, K, phi_wall, valences, weights)
+        Gn = _nonlinear_mean_factor(m, K, phi_wall, valences, weights)
         ratio_t = np.abs(np.asarray(phi_t) / np.where(phi_wall == 0, 1.0, phi_wall))
         ratio_t = np.where(phi_wall == 0, 1.0, ratio_t)
         thin = _SAFETY_THIN * np.abs(ratio_t / np.maximum(1.0 - Gn, 1e-12) - 1.0)
@@ -360,17 +412,14 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     # present (max|z| |phi| for a symmetric salt)
     Phi = np.max(np.where(w > 0, -zb * phi, -np.inf), axis=0)
     Phi = np.maximum(Phi, 0.0)
-    x = Phi / 2.0
     small = Phi < 1e-3
     Ps = np.where(small, 1.0, Phi)
-    xs = Ps / 2.0
     # overlapped layers: the mean charge f(phi) = sum_i w_i z_i (exp(-z_i phi) - 1)
     # against -phi (sinh(Phi)/Phi for a symmetric salt; first order in phi for
     # an asymmetric one)
     overlap = np.abs(_screening_ratio(valences, w, phi) - 1.0)
     # thin layers: electro-osmosis (the Gouy-Chapman mean potential against the
-    # linear one, 4 chi2(tanh(Phi/4)) against Phi: ~ Phi^2/72) and conduction (the
-    # diffuse-layer excess 4(cosh(Phi/2)-1) against Phi^2/2, relative to the total)
+    # linear one, 4 chi2(tanh(Phi/4)) against Phi: ~ Phi^2/72)
     chi2 = 0.5 * (special.spence(1.0 - np.tanh(Ps / 4.0)) - special.spence(1.0 + np.tanh(Ps / 4.0)))
     thin_eo = np.where(small, Phi**2 / 72.0, 1.0 - 4.0 * chi2 / Ps)
     # thin-layer conduction, per ion i: Bikerman's excess of a flat layer,
@@ -394,10 +443,10 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     # asymmetric salts: the Boltzmann factor's quadratic term, first order in phi
     skew = np.abs(np.sum(zb**3 * w, axis=0)) * np.abs(phi)
     if condition in ("potential", "regulated"):
-        # the overlapped term carries the asymmetry exactly; in thin layers
-        # about a third of it
-        # overlapped conduction at the wall potential: sum cw (exp(-z phi) - 1)
-        # against dh's sum cw (-z phi + z^2 phi^2/2)
+        # overlapped conduction at the wall potential: sum c (exp(-z phi) - 1)
+        # against dh's sum c (-z phi + z^2 phi^2/2), c the conductivity shares;
+        # the overlapped mean charge carries the asymmetry of a salt exactly, in
+        # thin layers about a third of it enters (skew)
         ex_pb = np.sum(cw * np.expm1(np.minimum(-zp, 700.0)), axis=0)
         ex_dh = np.sum(cw * (-zp + zp**2 / 2.0), axis=0)
         overlap_cond = np.abs(ex_dh - ex_pb) / (1.0 + np.abs(ex_pb))
@@ -418,9 +467,10 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
         # relation in thin layers: the Grahame charge over the linear one at
         # the wall potential (2 sinh(Phi/2)/Phi for a symmetric salt), weight
         # 1 - G; in overlapped layers through the linear Donnan balance, whose
-        # conduction excess sum z^2 w (-z phi_L + z^2 phi_L^2/2) (phi_L = f(phi)/(-phi)
-        # phi, dh's potential) stands against sum z^2 w (exp(-z phi) - 1) (for a
-        # symmetric salt sinh(Phi)^2/2 against cosh(Phi) - 1), weight G
+        # conduction excess sum c (-z phi_L + z^2 phi_L^2/2) (phi_L = r(phi) phi,
+        # dh's potential) stands against sum c (exp(-z phi) - 1) (for a
+        # symmetric salt of equal mobilities sinh(Phi)^2/2 against cosh(Phi) - 1),
+        # weight G
         pn = np.where(phi == 0, 1.0, phi)
         gain = np.where(phi == 0, 1.0, isolated_wall_charge(zb, w, pn) / pn)
         grahame = np.abs(gain - 1.0)
@@ -525,6 +575,9 @@ def auto_choice(b, geometry, geometry_factor, tol):
         def diffuse(p):
             return slope * p * _layer_gain(b.z, b.weights, G, p)
         phi_est = b.wall._balance(b.scaled_value, diffuse, 40.0 / np.max(np.abs(b.z)))
+        # a confined layer holds less charge than an isolated wall at the same
+        # potential, so pb's potential is at least the isolated wall's
+        phi_est = np.where(np.abs(phi_est) < np.abs(iso), iso, phi_est)
     else:
         # a fixed charge: the potential at which the channel's nonlinear layer
         # holds it (isolated in thin layers, Donnan-like when they overlap;
@@ -534,6 +587,7 @@ def auto_choice(b, geometry, geometry_factor, tol):
         phi_est = _layer_potential(b.z, b.weights, _mean_factor(m, b.K),
                                    _linear_slope(m, b.K, gf), b.scaled_value)
         iso = isolated_wall_potential(b.z, b.weights, b.K, b.scaled_value)
+        phi_est = np.where(np.abs(phi_est) < np.abs(iso), iso, phi_est)
     return choose_models(b.K, phi_est, b.z, geometry, tol, condition=b.wall.name,
                          weights=b.weights, phi_thin=iso, phi_dh=lin,
                          conduction_weights=lam / np.sum(lam, axis=0),
