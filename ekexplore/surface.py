@@ -274,7 +274,11 @@ class Surface:
         Defaults from Behrens & Grier (2001), who took the site density of
         fully hydroxylated silica and fitted pK and C to titration data of
         silica in monovalent salt. Protonation to SiOH₂⁺ (pK about -2) is left
-        out, as they do: it matters only below pH 3.
+        out, as they do: it matters only below pH 3. Hence near pH 2 the
+        charged plane barely follows the pH (under 1 mV/pH), where SiO₂ gates
+        were measured at about 20 mV/pH (Chen et al. 2011, Nano Lett. 11,
+        2334, doi:10.1021/nl200623n); from pH 5 to 10 the model's slope rises
+        from 10-27 to 43-47 mV/pH (1-100 mM KCl) against their "> 45 mV/pH".
 
         References
         ----------
@@ -335,12 +339,25 @@ class Surface:
         -----
         Site parameters from van Hal, Eijkel & Bergveld (1996), their table of
         oxide parameters (pK₊ = 6, pK₋ = 10, N_s = 8e18 1/m²; from memory: the
-        table could not be reread here). Point of zero charge 8.
+        table could not be reread here). Point of zero charge 8. No published
+        Stern capacitance for these sites was found; the screens start from
+        0.8 F/m², an example value from no source.
+
+        Against measurement: atomic-layer-deposited alumina gates gave a
+        near-Nernstian 57.8 ± 1.2 mV/pH over pH 2-10 at 22 °C [2]_. The
+        surface potential of this preset changes by 42-55 mV/pH there (mean
+        47-51 mV/pH with C = 0.8 F/m², 1-100 mM KCl): about 15 % below the
+        measurement, and the gap widens for larger C. [2]_ fitted their data
+        with a pK difference of about 1.5 instead of 4; treat the preset's ψ₀
+        and ζ as estimates.
 
         References
         ----------
         .. [1] van Hal, R. E. G., Eijkel, J. C. T. & Bergveld, P. (1996). Adv.
            Colloid Interface Sci. 69, 31. doi:10.1016/S0001-8686(96)00307-7
+        .. [2] Chen, S., Bomer, J. G., Carlen, E. T. & van den Berg, A. (2011;
+           authors from memory). Al2O3/silicon nanoISFET with near ideal
+           nernstian response. Nano Lett. 11, 2334. doi:10.1021/nl200623n
 
         Examples
         --------
@@ -362,12 +379,23 @@ class Surface:
         -----
         Site parameters from van Hal, Eijkel & Bergveld (1996), their table of
         oxide parameters (pK₊ = 2, pK₋ = 4, N_s = 1e19 1/m²; from memory: the
-        table could not be reread here). Point of zero charge 3.
+        table could not be reread here). Point of zero charge 3. No published
+        Stern capacitance for these sites was found; the screens start from
+        0.8 F/m², an example value from no source.
+
+        Against published behaviour: Ta₂O₅ gates are close to Nernstian and
+        their sensitivity hardly depends on the salt [2]_. This preset's
+        surface potential changes by 90-99 % of kT ln10/e per pH over pH 2-10
+        for C = 0.2-2.9 F/m², within 5 % between 1 and 100 mM KCl (tested).
 
         References
         ----------
         .. [1] van Hal, R. E. G., Eijkel, J. C. T. & Bergveld, P. (1996). Adv.
            Colloid Interface Sci. 69, 31. doi:10.1016/S0001-8686(96)00307-7
+        .. [2] van Hal, R. E. G., Eijkel, J. C. T. & Bergveld, P. (1995). A
+           novel description of ISFET sensitivity with the buffer capacity and
+           double-layer capacitance as key parameters. Sens. Actuators B
+           24-25, 201. doi:10.1016/0925-4005(95)85043-0
 
         Examples
         --------

@@ -422,3 +422,14 @@ def test_crowding_at_the_wall_is_said_on_the_screen_not_printed():
     assert v.status.kind == "ok", v.status.message
     for html_text in (v.matrix.value, d.readout.value):
         assert "ekx-warn" in html_text and "mol/L" in html_text and "steric" in html_text
+
+
+def test_pH_map_notes_read_as_sentences():
+    # the notes under the pH map (cells out of reach, the salt without a
+    # buffer) are sentences: each starts with a capital letter
+    import re
+    from ekexplore.dashboards.regimes import RegimesView
+    v = RegimesView(State(wall_mode="material", concentration=1.0), n=6)
+    text = re.sub(r"<[^>]+>", "", v.ph_readout.value)
+    assert "Grey cells are out of reach or outside the solver range." in text
+    assert not re.search(r"[.;]\s+[a-z]", text), text

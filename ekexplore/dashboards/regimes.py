@@ -424,7 +424,7 @@ class RegimesView(ViewUpdates):
             grey.append(f"Below {num(floor)} mM (the {'buffer' if st.buffer else 'carbonate'} "
                         "alone, pH dependent) no salt can reach the ionic strength")
         if m["n_valid"] < m["n_cells"]:
-            grey.append("grey: out of reach or outside the solver range")
+            grey.append("Grey cells are out of reach or outside the solver range")
         acid = ("" if st.buffer else
                 " Without a buffer the pH axis is the pH the wall's sites see and the ions are "
                 "the salt's: the acid or base that would set that pH is not added, so the cells "
@@ -439,7 +439,7 @@ class RegimesView(ViewUpdates):
             f"charged sites {html.escape(U.percent(here['charged']))}, "
             f"electro-osmotic mobility {html.escape(U.mobility(here['mobility']))}, "
             f"channel conductivity {html.escape(U.conductivity(here['conductivity']))}."
-            + (" " + html.escape("; ".join(grey)) + "." if grey else "") + acid
+            + (" " + html.escape(". ".join(grey)) + "." if grey else "") + acid
             + (" <b>2D section</b>: mapped as the slit of the same half-size."
                if st.is_section else "") + "</div>")
 

@@ -33,17 +33,21 @@ MATERIALS = {
     "silica": ("silica / glass", "Behrens & Grier 2001, J. Chem. Phys. 115, 6716: pK 7.5, "
                "8 sites/nm², Stern capacitance 2.9 F/m²"),
     "alumina": ("alumina (Al₂O₃)", "van Hal, Eijkel & Bergveld 1996, Adv. Colloid Interface "
-                "Sci. 69, 31 (from memory): pK 6 and 10, 8 sites/nm²"),
+                "Sci. 69, 31 (from memory): pK 6 and 10, 8 sites/nm²; its surface potential "
+                "follows the pH by 42-55 mV/pH, below the 57.8 mV/pH measured on alumina "
+                "gates (Nano Lett. 11, 2334, 2011): an estimate"),
     "tantalum pentoxide": ("tantalum pentoxide (Ta₂O₅)",
                            "van Hal, Eijkel & Bergveld 1996 (from memory): pK 2 and 4, "
-                           "10 sites/nm²"),
+                           "10 sites/nm²; near-Nernstian and hardly salt dependent, as "
+                           "measured on Ta₂O₅ gates (Sens. Actuators B 24-25, 201, 1995)"),
     "custom": ("your own sites", "the pK, site density and Stern capacitance you type"),
 }
 #: pH the wall sees when the salt has no buffer and is not in air [-]: typed by
 #: the user, default neutral water (7); in air, unbuffered water sits near 5.6.
 SALT_PH_DEFAULT = 7.0
-#: Stern capacitance shown first for the amphoteric oxides [F/m²]: their site
-#: source gives none, so this is an example value for the user to replace.
+#: Stern capacitance shown first for the amphoteric oxides [F/m²]: no published
+#: value was found for these site sets, so this is an example value from no
+#: source, for the user to replace.
 OXIDE_STERN_EXAMPLE = 0.8
 #: Target accuracy of 2D-section solves in the dashboards [-] (interactive;
 #: the 1D shapes use solve's default).
@@ -268,8 +272,9 @@ class State(traitlets.HasTraits):
             parts.append(f"{pk}, {self.site_density * 1e-18:.3g} sites/nm², Stern "
                          f"capacitance {self.stern_capacitance:.3g} F/m²")
         elif self.material != "silica":
-            parts.append(f"Stern capacitance {self.stern_capacitance:.3g} F/m² (that source "
-                         f"gives none: {OXIDE_STERN_EXAMPLE:g} is an example, type yours)")
+            parts.append(f"Stern capacitance {self.stern_capacitance:.3g} F/m² (no published "
+                         f"value was found for these sites: {OXIDE_STERN_EXAMPLE:g} is an "
+                         "example from no source; type yours)")
         pzc = float(np.asarray(surf.point_of_zero_charge))
         if np.isfinite(pzc):
             parts.append(f"point of zero charge pH {pzc:.2f}")
