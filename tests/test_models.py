@@ -106,7 +106,7 @@ def test_auto_meets_its_tolerance(tol):
     # the cheap models are used where they may be, and the choice is recorded
     models = set(np.unique(ra.model))
     assert models <= {"thin", "dh", "pb"} and len(models) >= 2
-    assert "Richardson" in ra.error_method and "G/(1-G)" in ra.error_method
+    assert "Richardson" in ra.error_method and "g/(1-g)" in ra.error_method
 
 
 def test_auto_prefers_cheap_models_in_their_regimes():
