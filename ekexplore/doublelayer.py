@@ -367,7 +367,9 @@ def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
     quadratic-convergence constant is large, and a stop at 1e-6 left errors
     that showed as reciprocity residuals of 1e-6: the kernels ask
     :data:`CHARGE_NEWTON_TOL` there (residuals below 1e-13 for about one more
-    Newton step). Raises :class:`ConvergenceError` otherwise.
+    Newton step). A point whose full updates stop halving below 1e-6 of its
+    potential has reached round-off and stops too. Raises
+    :class:`ConvergenceError` otherwise.
     """
     if isinstance(wall, str):
         wall = WALL_CONDITIONS[wall]
@@ -377,6 +379,7 @@ def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
         phi[:, 0] = value
     B = phi.shape[0]
     active = np.arange(B)
+    last = np.full(B, np.inf)    # each point's previous full-step update
     for it in range(max_iter):
         ph = phi if active.size == B else phi[active]   # no copies while every point iterates
         delta = pb.newton_update(ph, active)
@@ -389,8 +392,17 @@ def solve_pb(grid, K, z, w, wall, value, phi0=None, tol=1e-6, max_iter=200):
             phi[active] = trial
         # at least one full step: near zero potential the problem is linear and
         # one step is exact, whatever the (absolute) accuracy of the start
-        done = (big * t * scale <= tol * np.max(np.abs(trial), axis=1) + 1e-280) & (t == 1.0) \
-            & (scale == 1.0) & (it > 0)
+        full = (t == 1.0) & (scale == 1.0) & (it > 0)
+        size = np.max(np.abs(trial), axis=1)
+        done = (big <= tol * size + 1e-280) & full
+        # or Newton has stalled on round-off below the solvers' 1e-6: a full
+        # update that no longer halves (quadratic convergence would shrink it by
+        # orders of magnitude). A regulated wall at its point of zero charge has
+        # a net charge that is a near-cancellation of its sites' charges, whose
+        # round-off (about 1e-10 of the potential) a tol of 1e-10 cannot beat.
+        prev = last[active]
+        done |= full & (big <= 1e-6 * size) & (big >= 0.5 * prev)
+        last[active] = np.where(full, big, np.inf)
         if np.any(done):
             active = active[~done]
             if active.size == 0:

@@ -10,26 +10,46 @@ The cheap models fail in known ways, and their errors have simple
 estimates:
 
 ``thin`` ignores the finite thickness of the double layer. Its error on the
-electro-osmotic coefficient is, in the Debye–Hückel regime, exactly
-:math:`G/(1-G)` (at a fixed charge, which sets the mean potential of
-overlapped layers, about :math:`G\tanh K/(1-G)`), where :math:`G = \langle\psi\rangle/\zeta` is the
-Debye–Hückel mean-potential factor (tanh K/K for a slit, 2 I1/(K I0) for a
-tube; K = kappa x half-size). Nonlinear screening thins the layer and makes
-the real error smaller, so this is an upper estimate; the same factor bounds
-the error of its surface conduction.
+electro-osmotic coefficient is exactly :math:`g/(1-g)`, where
+:math:`g = \langle\psi\rangle/\zeta` is the mean-potential factor of the
+layer. The Debye–Hückel factor G (tanh K/K for a slit, 2 I1/(K I0) for a
+tube; K = kappa x half-size) overstates g once the layer is nonlinear:
+counter-ions crowd in and screen it faster. The estimate takes G at an
+effective K sqrt(r(psi_c)), r the nonlinear over the linear charge density
+at the centre potential psi_c of the channel (sinh(Phi)/Phi for a symmetric
+salt), which solves psi_c = zeta C(K sqrt(r(psi_c))) (C the linear centre
+factor): at kappa a = 0.01 and |z e zeta/kT| = 20 G/(1-G) is 3e4 and the
+true error about 1.6. At a fixed charge thin sees the isolated wall's
+potential zeta_iso and pb a larger one zeta_pb (its layer is confined): the
+error is then |zeta_iso/(zeta_pb (1 - g)) - 1| with zeta_pb estimated from
+the channel's nonlinear layer. A regulated wall's charge follows its
+potential, so thin's error is at most g/(1-g) at zeta_iso. The same factor
+bounds the error of its surface conduction.
 
-``dh`` linearises the Boltzmann factor. Its error grows as the square of
-:math:`\Phi = \max_i|z_i|\,e|\zeta|/kT` (first order for asymmetric salts),
-with a leading term per regime, each weighted by how much of the section
-that regime fills: in overlapped layers the mean charge goes as sinh(Phi)
-against Phi (weight G²); in thin layers the Gouy–Chapman mean potential
-4 chi2(tanh(Phi/4)) against Phi for electro-osmosis and the diffuse-layer
-excess 4(cosh(Phi/2) - 1) against Phi²/2 for conduction (weight G, the
-share of the section in the layer); at charge walls the linear Grahame
-relation, 2 sinh(Phi/2)/Phi against 1 (weight 1 - G), and the overlapped
-conduction. At constant potential dh underestimates every coefficient, so
-its error stays below 1 and the estimate is capped at 2. Safety factors
-and their measured reasons are in the table.
+``dh`` linearises the Boltzmann factor. Its error is the sum of the leading
+error of each regime, each weighted by how much of the section that regime
+fills (G² or G for overlapped layers, G or 1 - G for thin ones), and each
+computed ion by ion for any mixture: in overlapped layers the mean charge,
+sum_i w_i z_i (exp(-z_i phi) - 1) against -phi (sinh(Phi)/Phi for a
+symmetric salt, first order in phi for an asymmetric one), and the
+conduction, sum_i c_i (exp(-z_i phi) - 1) against dh's second-order
+-z_i phi + z_i² phi²/2, weighted by each ion's share c_i of the bulk
+conductivity (so that unequal mobilities cancel as they do in the real
+current); in thin layers the Gouy–Chapman mean potential against the linear
+one for electro-osmosis (Phi = the counter-ion's |z e zeta/kT|), and for
+the conduction Bikerman's excess of a flat layer, (1 + 3m_i/z_i²) times
+2(exp(-z_i phi/2) - 1) per ion (migration and convection, m_i the ion's
+electro-osmotic to migration ratio), against dh's. At constant potential dh
+underestimates every coefficient, so its error stays below 1 and the estimate
+is capped at 2. At a fixed charge the linear Grahame relation adds its error
+(the Grahame charge over the linear one at the wall potential, weight 1 - G)
+and the overlapped conduction is that of the linear Donnan balance; the wall
+potential is where the channel's nonlinear layer (the linear layer's charge,
+with its curvature, times the geometric mean of the isolated and uniform
+gains) holds the charge. At a regulated wall the sites balance dh's linear
+layer at zeta_dh and pb's at about zeta_pb (the same nonlinear layer): the
+estimate is the constant-potential one at zeta_pb plus |zeta_dh -
+zeta_pb|/|zeta_pb|. Safety factors and their measured reasons are in the table.
 
 ``pb`` is the reference; its own error is that of its Richardson-extrapolated
 value, from the extrapolations with coarser grids (1D: n/sqrt(2) and n/2
@@ -46,7 +66,8 @@ import numpy as np
 from scipy import special
 
 from ._validate import as_float_array, broadcast_named, check_positive
-from .doublelayer import PB_PHI_MAX, wall_potential_estimate
+from .doublelayer import PB_PHI_MAX
+from .wall import isolated_wall_charge, isolated_wall_potential
 
 __all__ = ["ModelSpec", "MODEL_TABLE", "MODEL_NAMES", "MODEL_CHOICES", "PHI_MAX",
            "KAPPA_SIZE_RANGE", "ERROR_METHOD", "estimated_model_errors", "choose_models",
@@ -110,20 +131,29 @@ MODEL_TABLE = {
         validated="accurate when kappa*half-size >> 1 (error about (m+1)/K)",
         accurate_error=0.1,
         accurate_range="estimated error at most 10 %: kappa*half-size above about 15",
-        error="G/(1-G) with G the Debye-Hueckel mean-potential factor at kappa*half-size "
-              "(times tanh(K) at constant-charge walls), times a safety factor",
-        safety={"thin": (1.5, "G/(1-G) is exact for the electro-osmotic coefficient in the "
-                              "Debye-Hueckel regime; against pb on about 20,000 random slit "
-                              "and tube points (KCl, CaCl2, Na2SO4, both walls, K 0.1-1e4) "
-                              "the largest coefficient error reached 1.07 times it (Na2SO4, "
-                              "K 8-17, Phi about 1.5), so 1.5 keeps a margin of 1.4 "
-                              "(measured 2026-12; checked in tests/test_models.py)"),
-                "charge": (1.0, "at a constant-charge wall the estimate is multiplied by "
-                                "tanh(K): the charge fixes <phi> - phi_w of overlapped layers, "
-                                "and the error grows as 1/K there, not 1/K^2; against pb on "
-                                "3,590 random points the plain G/(1-G) was 10-830 times the "
-                                "error below K = 0.1, G/(1-G) tanh(K) 0.93-43 (median 1.0 "
-                                "slit, 2.0 tube) before the factor 1.5 (measured 2026-12)")}),
+        error="g/(1-g) with g the Debye-Hueckel mean-potential factor at an effective "
+              "kappa*half-size K sqrt(r(psi_c)) (r the nonlinear over the linear charge at "
+              "the channel's centre potential psi_c); at constant-charge walls "
+              "|zeta_iso/(zeta_pb (1-g)) - 1| (thin's isolated-wall potential against pb's), "
+              "at regulated walls g/(1-g) at zeta_iso; times a safety factor",
+        safety={"thin": (1.5, "g/(1-g) is exact for the electro-osmotic coefficient given "
+                              "the layer's true mean potential; the effective K moves the "
+                              "Debye-Hueckel factor toward the nonlinear one. Against pb on "
+                              "4,795 random slit and tube points (KCl, CaCl2, Na2SO4, "
+                              "0.01-100 mM, constant potential, constant charge, regulated "
+                              "silica, alumina and a user-defined surface at pH 4-10; K 1e-3-"
+                              "1e5, |z e zeta/kT| to 20) the estimate was 1.25-18 times the "
+                              "true error (median 1.7, 99.8 % within 1-10; with the plain "
+                              "Debye-Hueckel G/(1-G) 1.27-17,150, median 1.9, 91 %, the worst "
+                              "at K ~ 0.01-0.1 and high |zeta|), so 1.5 keeps a margin of "
+                              "1.25 (benchmarks/estimate_ratios.py, measured 2026-12; checked "
+                              "in tests/test_models.py)"),
+                "charge": (1.0, "at a constant-charge wall thin's potential is the isolated "
+                                "wall's and pb's the confined layer's, which is larger when "
+                                "the layers overlap: the error grows as 1/K there, not "
+                                "1/K^2; the ratio of the two potentials carries it (the "
+                                "earlier tanh(K) factor: 1.4-120 times the error, 98 % within "
+                                "1-10; now 1.25-5.9, 100 %; same points)")}),
     "dh": ModelSpec(
         name="dh",
         summary="Debye-Hueckel (linearised Poisson-Boltzmann) closed forms or linear 2D "
@@ -132,37 +162,45 @@ MODEL_TABLE = {
         validated="accurate when Phi << 1 (error about Phi^2/48 in conduction)",
         accurate_error=0.1,
         accurate_range="estimated error at most 10 %: max|z| e|zeta|/kT below about 0.3-1",
-        error="sum of the leading errors of each regime, weighted by the Debye-Hueckel mean "
-              "factor G: overlapped G^2 (sinh(Phi)/Phi - 1); thin-layer electro-osmosis "
-              "G (1 - 4 chi2(tanh(Phi/4))/Phi) and conduction G |4(cosh(Phi/2)-1) - Phi^2/2| / "
-              "(1 + 4 G (cosh(Phi/2)-1)); asymmetric salts |sum z^3 w| |phi|/2 G (G + (1-G)/3); "
-              "at charge walls the linear Grahame relation (1-G)(2 sinh(Phi/2)/Phi - 1), the "
-              "overlapped conduction G |1 + sinh^2(Phi)/2 - cosh(Phi)|/cosh(Phi) and "
-              "|sum z^3 w| |phi|/6; times safety factors",
+        error="sum of the leading errors of each regime, per ion for any mixture, weighted "
+              "by the Debye-Hueckel mean factor G: overlapped G^2 (mean charge "
+              "sum w z (exp(-z phi) - 1) against -phi, and conduction sum c (exp(-z phi) - 1) "
+              "against -z phi + z^2 phi^2/2, c the ion's share of the bulk conductivity); "
+              "thin-layer electro-osmosis G (1 - 4 chi2(tanh(Phi/4))/Phi), Phi the "
+              "counter-ion's; thin-layer conduction G |sum c ((1 + 3m/z^2) 2(exp(-z phi/2) - "
+              "1) - (-z phi + (1 + 3m/z^2) z^2 phi^2/4))| (Bikerman's excess, migration and "
+              "convection); asymmetric salts |sum z^3 w| |phi| G (1-G)/6; at charge walls the "
+              "linear Grahame relation (1-G) |Grahame charge/linear - 1| and the linear "
+              "Donnan balance's conduction; at regulated walls the constant-potential terms "
+              "plus |zeta_dh - zeta_pb|/|zeta_pb|; times safety factors",
         safety={"dh": (1.5, "each term is the leading error of its regime (exact in its "
                             "limit: at constant potential the overlapped and asymmetric-salt "
                             "terms reached 1.00 times the true error at kappa*half-size "
                             "0.01, the thin-layer electro-osmosis term 1.05 times at 20); "
-                            "1.5 keeps a margin of 1.5 there. On 2,390 random slit and tube "
-                            "points (KCl, CaCl2, Na2SO4, both walls, K 1e-2-1e4, |z e "
-                            "zeta/kT| to 20) the estimate was 1.28-1,450 times the true "
-                            "error against pb, median 1.9, 88 % within 1-10 (the plain "
-                            "blend of the earlier table: 2.6-1.4e6, median 18, 34 % within "
-                            "1-10) (measured 2026-12; checked in tests/test_models.py)"),
+                            "1.5 keeps a margin of 1.5 there. On 1,251 random slit and tube "
+                            "points at constant potential and charge (KCl, CaCl2, Na2SO4, "
+                            "0.01-100 mM, K 1e-3-1e5, |z e zeta/kT| to 20 of either sign) "
+                            "the estimate was 1.2-26 times the true error against pb, median "
+                            "2.0, 98.7-99.5 % within 1-10 (the earlier table, with "
+                            "Phi = max|z| e|zeta|/kT and equal mobilities: 1.03-1,272, median "
+                            "2.2, 78-95 %) (benchmarks/estimate_ratios.py, measured "
+                            "2026-12; checked in tests/test_models.py)"),
                 "potential_cap": (2.0, "at a constant-potential wall dh screens less than pb, "
                                        "so it underestimates every coefficient: the true "
                                        "error stayed below 1 (largest 0.9998 on the same "
                                        "points); the estimate is capped at 2"),
-                "charge": (2.0, "at a constant-charge (or regulated) wall: the same terms plus "
-                                "the wall-potential error of the linear Grahame relation; "
-                                "with 1.5 the smallest ratio measured was 0.97 (KCl, tube), "
-                                "so 2. A regulated wall keeps the full overlapped term (its "
-                                "charge follows the overlapped potential) and its potential "
-                                "estimate moves toward its linear-layer potential as G grows "
-                                "(auto_choice): 2.1 times the error at least on 320 random "
-                                "silica points (pH 4-10, KCl and CaCl2 0.01-100 mM, K 1e-2-"
-                                "1e4), but with median 17-100 and a long pessimistic tail "
-                                "(the earlier table: 0.70 at least)")}),
+                "charge": (2.0, "at a constant-charge wall: the same terms plus the "
+                                "wall-potential error of the linear Grahame relation; with "
+                                "1.5 the smallest ratio measured was 0.97 (KCl, tube), so 2"),
+                "regulated": (1.5, "at a regulated wall the sites balance dh's linear layer "
+                                   "at zeta_dh, pb's nonlinear one at about zeta_pb: the gap "
+                                   "|zeta_dh - zeta_pb|/|zeta_pb| (exact for thin layers, "
+                                   "where zeta_pb is the isolated wall's) times 1.5 is added "
+                                   "to the constant-potential estimate. On 2,875 random "
+                                   "silica, alumina and user-defined points (pH 4-10, KCl, "
+                                   "CaCl2, Na2SO4 0.01-100 mM, K 1e-2-1e4) 1.13-265 times "
+                                   "the error, median 2.5, 92-96 % within 1-10 (the "
+                                   "earlier estimate: 0.74-7.2e6, median 57-135, 15-23 %)")}),
     "pb": ModelSpec(
         name="pb",
         summary="the nonlinear Poisson-Boltzmann equation solved on wall-resolving grids "
@@ -195,8 +233,11 @@ _SAFETY_THIN = MODEL_TABLE["thin"].safety["thin"][0]
 _SAFETY_DH = MODEL_TABLE["dh"].safety["dh"][0]
 _SAFETY_DH_CHARGE = MODEL_TABLE["dh"].safety["charge"][0]
 _DH_POTENTIAL_CAP = MODEL_TABLE["dh"].safety["potential_cap"][0]
+_SAFETY_DH_GAP = MODEL_TABLE["dh"].safety["regulated"][0]
 #: Weight of the overlapped (mean charge) term at charge walls, where the charge
-#: fixes <phi> - phi_w and the term enters only through the conduction.
+#: fixes <phi> - phi_w and the term enters only through the conduction; times
+#: G (1 - G), so it vanishes in both limits (times G alone it was up to 40 times
+#: the true error in overlapped layers of asymmetric salts at low potential).
 _DH_CHARGE_OVERLAP = 0.05
 
 
@@ -223,8 +264,79 @@ def _mean_factor(m, K):
     slit, tube = _mean_factor(0, K), _mean_factor(1, K)
     mean = 0.5 * (slit + tube)
     return mean + (tube - mean) * np.exp(-K / 4.0)
+
+
+def _centre_factor(m, K):
+    """psi(centre)/psi(wall) of the Debye-Hueckel layer: 1/cosh K (slit), 1/I0(K)
+    (tube), their mean for sections; overflow-free."""
+    K = np.asarray(K, dtype=float)
+    if m == 0:
+        return 2.0 * np.exp(-K) / (1.0 + np.exp(-2.0 * K))
+    if m == 1:
+        return np.exp(-K) / special.ive(0, K)
+    return 0.5 * (_centre_factor(0, K) + _centre_factor(1, K))
+
+
+def _screening_ratio(z, weights, psi):
+    """rho(psi)/rho_linear(psi) = sum_i w_i z_i (1 - exp(-z_i psi)) / psi: how
+    much more (or less) a nonlinear layer at potential psi screens than the
+    linear one (sinh(Phi)/Phi for a symmetric salt, Phi = z psi). ``z`` (k,),
+    ``weights`` (k, ...) or None (a symmetric salt of valence max|z|)."""
+    psi = np.asarray(psi, dtype=float)
+    zb, w = _ions(z, weights, max(np.ndim(psi), 0 if weights is None else np.ndim(weights) - 1))
+    small = np.abs(psi) < 1e-8
+    ps = np.where(small, 1.0, psi)
+    r = np.sum(w * zb * -np.expm1(np.minimum(-zb * ps, 700.0)), axis=0) / ps
+    return np.where(small, np.sum(w * zb**2, axis=0), np.maximum(r, 0.0))
+
+
+def _per_ion(a, ndim):
+    a = np.asarray(a, dtype=float)
+    return a.reshape(a.shape + (1,) * (ndim + 1 - a.ndim))
+
+
+def _ions(valences, weights, ndim):
+    """Valences (k, 1...) and weights (k, ...) for ``ndim`` point axes; a
+    symmetric salt of valence max|z| when ``weights`` is None."""
+    z = np.asarray(valences, dtype=float)
+    if weights is None:
+        zc = float(np.max(np.abs(z)))
+        z = np.array([zc, -zc])
+        w = np.full(2, 0.5 / zc**2)
+    else:
+        w = np.asarray(weights, dtype=float)
+    zb = z.reshape((-1,) + (1,) * ndim)
+    w = w.reshape(w.shape + (1,) * (ndim + 1 - w.ndim))
+    return zb, w
+
+
+def _nonlinear_mean_factor(m, K, phi_wall, z=(1, -1), weights=None):
+    """Mean-potential factor <psi>/psi_w of a nonlinear layer, estimated without a solve.
+
+    The Debye-Hueckel factor at an effective kappa*half-size K sqrt(r(psi_c)),
+    r the screening ratio of :func:`_screening_ratio` at the centre potential
+    psi_c, which solves psi_c = psi_w C(K sqrt(r(psi_c))) (C the linear layer's
+    centre factor; bisection). A nonlinear layer screens at least as much as
+    the linear one at its smallest potential (a comparison argument for
+    symmetric salts), so this moves G toward the nonlinear value."""
+    K = np.asarray(K, dtype=float)
+    phi = np.asarray(phi_wall, dtype=float)
+    K, phi = np.broadcast_arrays(K, phi)
+    lo = np.zeros(K.shape)
+    hi = np.ones(K.shape)
+    for _ in range(48):
+        t = 0.5 * (lo + hi)
+        r = _screening_ratio(z, weights, t * phi)
+        up = t > _centre_factor(m, K * np.sqrt(r))
+        hi = np.where(up, t, hi)
+        lo = np.where(up, lo, t)
+    r = _screening_ratio(z, weights, lo * phi)
+    return _mean_factor(m, K * np.sqrt(r))
+
+
 def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry=0,
-                           condition="potential", weights=None):
+                           condition="potential", weights=None, phi_thin=None, phi_dh=None,
+                           conduction_weights=None, dukhin_m=None):
     """Estimated relative error of the thin and dh models on the coupling matrix.
 
     Parameters
@@ -232,19 +344,32 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     kappa_half_size : array_like
         K = kappa x half-size [-].
     phi_wall : array_like
-        Scaled wall potential e zeta / kT [-] (estimate for charge walls).
+        Scaled wall potential e zeta / kT [-] of the pb solution (an estimate
+        for charge and regulated walls, see :func:`auto_choice`).
     valences : sequence of int
-        Ion valences; the largest |z| sets the nonlinearity.
+        Ion valences.
     geometry : int or str
         0 or "slit", 1 or "tube", "section" for 2D shapes.
-    condition : {"potential", "charge"}
-        Wall condition; constant charge doubles the dh estimate, since the
-        linear Grahame relation adds its own error.
+    condition : {"potential", "charge", "regulated"}
+        Wall condition. A constant charge adds the error of the linear Grahame
+        relation; a regulated wall the gap between dh's and pb's potentials.
     weights : array_like, optional
-        c_i / sum_j z_j^2 c_j per ion, shape (n_ions, ...). For asymmetric
-        mixtures the Boltzmann factor has a quadratic term, so dh errs at first
-        order in Phi: the estimate adds |sum z_i^3 w_i| Phi / 2. Default: a
-        symmetric salt.
+        c_i / sum_j z_j^2 c_j per ion, shape (n_ions, ...). Default: a
+        symmetric salt of valence max|z|.
+    phi_thin : array_like, optional
+        Scaled wall potential of the thin model (the isolated wall's) at
+        charge and regulated walls [-]. Default ``phi_wall``.
+    phi_dh : array_like, optional
+        Scaled wall potential of the dh model [-]; required for a regulated
+        wall.
+    conduction_weights : array_like, optional
+        Each ion's share of the bulk conductivity, lambda_i c_i / sum_j
+        lambda_j c_j, shape (n_ions, ...). Default z_i^2 w_i (equal
+        diffusivities).
+    dukhin_m : array_like, optional
+        Each ion's ratio of electro-osmotic to migration transport, m_i = 2 eps
+        (kT/e)^2 / (3 eta D_i) [-], shape (n_ions, ...). Default 1/3 (about
+        that of small ions in water at 25 °C).
 
     Returns
     -------
@@ -273,69 +398,155 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     phi_wall = as_float_array("phi_wall", phi_wall)
     broadcast_named({"kappa_half_size": K.shape, "phi_wall": phi_wall.shape})
     G = _mean_factor(m, K)
-    thin = _SAFETY_THIN * G / np.maximum(1.0 - G, 1e-12)
-    if condition == "charge":
-        # a fixed charge sets <phi> - phi_w in overlapped layers, so the slip
-        # model's error there grows as 1/K, not as G/(1-G) ~ 1/K^2
-        thin = thin * np.tanh(K)
-    Phi = np.max(np.abs(valences)) * np.abs(np.asarray(phi_wall, dtype=float))
-    Phi = np.minimum(Phi, 80.0)
-    x = Phi / 2.0
+    phi_t = phi_wall if phi_thin is None else as_float_array("phi_thin", phi_thin)
+    if condition == "potential":
+        Gn = _nonlinear_mean_factor(m, K, phi_wall, valences, weights)
+        thin = _SAFETY_THIN * Gn / np.maximum(1.0 - Gn, 1e-12)
+    elif condition == "regulated":
+        Gn = _nonlinear_mean_factor(m, K, phi_t, valences, weights)
+        thin = _SAFETY_THIN * Gn / np.maximum(1.0 - Gn, 1e-12)
+    else:
+        Gn = _nonlinear_mean_factor(m, K, phi_wall, valences, weights)
+        ratio_t = np.abs(np.asarray(phi_t) / np.where(phi_wall == 0, 1.0, phi_wall))
+        ratio_t = np.where(phi_wall == 0, 1.0, ratio_t)
+        thin = _SAFETY_THIN * np.abs(ratio_t / np.maximum(1.0 - Gn, 1e-12) - 1.0)
+    K, phi = np.broadcast_arrays(K, np.asarray(phi_wall, dtype=float))
+    if weights is not None:
+        weights = np.asarray(weights, dtype=float)
+        weights = weights.reshape(weights.shape + (1,) * (K.ndim + 1 - weights.ndim))
+    zb, w = _ions(valences, weights, K.ndim)
+    zmax = float(np.max(np.abs(zb)))
+    phi = np.sign(phi) * np.minimum(np.abs(phi), 80.0 / zmax)
+    # the counter-ion sets the nonlinearity: Phi = max_i(-z_i phi) over the ions
+    # present (max|z| |phi| for a symmetric salt)
+    Phi = np.max(np.where(w > 0, -zb * phi, -np.inf), axis=0)
+    Phi = np.maximum(Phi, 0.0)
     small = Phi < 1e-3
     Ps = np.where(small, 1.0, Phi)
-    xs = Ps / 2.0
-    # overlapped layers: the mean charge goes as sinh(Phi) against Phi
-    overlap = np.where(small, Phi**2 / 6.0, np.sinh(np.minimum(Ps, 700.0)) / Ps - 1.0)
+    # overlapped layers: the mean charge f(phi) = sum_i w_i z_i (exp(-z_i phi) - 1)
+    # against -phi (sinh(Phi)/Phi for a symmetric salt; first order in phi for
+    # an asymmetric one)
+    overlap = np.abs(_screening_ratio(valences, w, phi) - 1.0)
     # thin layers: electro-osmosis (the Gouy-Chapman mean potential against the
-    # linear one, 4 chi2(tanh(Phi/4)) against Phi: ~ Phi^2/72) and conduction (the
-    # diffuse-layer excess 4(cosh(Phi/2)-1) against Phi^2/2, relative to the total)
+    # linear one, 4 chi2(tanh(Phi/4)) against Phi: ~ Phi^2/72)
     chi2 = 0.5 * (special.spence(1.0 - np.tanh(Ps / 4.0)) - special.spence(1.0 + np.tanh(Ps / 4.0)))
     thin_eo = np.where(small, Phi**2 / 72.0, 1.0 - 4.0 * chi2 / Ps)
-    excess = 4.0 * np.where(small, x**2 / 2.0, np.cosh(np.minimum(xs, 350.0)) - 1.0)
-    thin_cond = G * np.abs(excess - Phi**2 / 2.0) / (1.0 + G * excess)
-    ratio = G**2 * overlap + G * thin_eo + thin_cond
-    skew = 0.0
-    if weights is not None:
-        zb = np.asarray(valences, dtype=float).reshape((-1,) + (1,) * (np.ndim(weights) - 1))
-        skew = np.abs(np.sum(zb**3 * np.asarray(weights), axis=0)) * np.abs(
-            np.asarray(phi_wall, dtype=float))
-    if condition == "potential":
-        # asymmetric salts: first order in phi (exact when overlapped, about a
-        # third of it in thin layers)
-        ratio = ratio + skew / 2.0 * G * (G + (1.0 - G) / 3.0)
+    # thin-layer conduction, per ion i: Bikerman's excess of a flat layer,
+    # (1 + 3 m_i/z_i^2) I_i with I_i = int (exp(-z_i psi) - 1) dX = 2(exp(-z_i
+    # phi/2) - 1) for a symmetric salt (migration and convection), against dh's
+    # migration -z_i phi + z_i^2 phi^2/4 and convection (3 m_i/z_i^2) z_i^2
+    # phi^2/4, each weighted by the ion's share of the bulk conductivity; the
+    # first-order terms cancel in the sum. A counter-ion that dominates the
+    # layer has |dpsi/dX| = sqrt(2 w_i) exp(-z_i psi/2), so its excess is 2 f_i
+    # exp(Phi_i/2), f_i = 1/(|z_i| sqrt(2 w_i)) (1 for a symmetric salt); the
+    # linear part is kept exact
+    cw = zb**2 * w if conduction_weights is None else _per_ion(conduction_weights, K.ndim)
+    mi = 1.0 / 3.0 if dukhin_m is None else _per_ion(dukhin_m, K.ndim)
+    a = 3.0 * mi / zb**2
+    zp = zb * phi
+    f = np.where(zp < 0, 1.0 / (np.abs(zb) * np.sqrt(2.0 * np.maximum(w, 1e-300))), 1.0)
+    I_gc = 2.0 * (f * np.expm1(np.minimum(-zp / 2.0, 350.0)) + (f - 1.0) * zp / 2.0)
+    ex_gc = np.sum(cw * (1.0 + a) * I_gc, axis=0)
+    ex_lin = np.sum(cw * (-zp + (1.0 + a) * zp**2 / 4.0), axis=0)
+    thin_cond = G * np.abs(ex_gc - ex_lin) / (1.0 + G * np.maximum(ex_gc, 0.0))
+    # asymmetric salts: the Boltzmann factor's quadratic term, first order in phi
+    skew = np.abs(np.sum(zb**3 * w, axis=0)) * np.abs(phi)
+    if condition in ("potential", "regulated"):
+        # overlapped conduction at the wall potential: sum c (exp(-z phi) - 1)
+        # against dh's sum c (-z phi + z^2 phi^2/2), c the conductivity shares;
+        # the overlapped mean charge carries the asymmetry of a salt exactly, in
+        # thin layers about a third of it enters (skew)
+        ex_pb = np.sum(cw * np.expm1(np.minimum(-zp, 700.0)), axis=0)
+        ex_dh = np.sum(cw * (-zp + zp**2 / 2.0), axis=0)
+        overlap_cond = np.abs(ex_dh - ex_pb) / (1.0 + np.abs(ex_pb))
+        ratio = (G**2 * (overlap + overlap_cond) + G * thin_eo + thin_cond
+                 + skew / 2.0 * G * (1.0 - G) / 3.0)
         dh = np.minimum(_SAFETY_DH * ratio, _DH_POTENTIAL_CAP)
+        if condition == "regulated":
+            # the sites balance dh's linear layer at phi_dh, pb's layer at about
+            # phi_wall (auto_choice's estimate of pb's potential)
+            if phi_dh is None:
+                raise ValueError("phi_dh: a regulated wall's estimate needs the wall "
+                                 "potential of the dh model, got None")
+            pw = np.asarray(phi_wall, dtype=float)
+            gap = np.abs(as_float_array("phi_dh", phi_dh) - pw) / np.maximum(np.abs(pw), 1e-300)
+            dh = dh + _SAFETY_DH_GAP * np.minimum(gap, 1e6)
     else:
-        # a charge (fixed or regulated) sets the wall potential through the
-        # linear Grahame relation (thin layers) or the linear Donnan balance,
-        # whose conduction grows as sinh(Phi)^2/2 against cosh(Phi) - 1
-        grahame = np.where(small, Phi**2 / 24.0, 2.0 * np.sinh(np.minimum(xs, 350.0)) / Ps - 1.0)
-        Pc = np.minimum(Ps, 30.0)
-        overlap_cond = np.where(small, Phi**4 / 8.0,
-                                np.abs(1.0 + np.sinh(Pc)**2 / 2.0 - np.cosh(Pc)) / np.cosh(Pc))
+        # a fixed charge sets the wall potential through the linear Grahame
+        # relation in thin layers: the Grahame charge over the linear one at
+        # the wall potential (2 sinh(Phi/2)/Phi for a symmetric salt), weight
+        # 1 - G; in overlapped layers through the linear Donnan balance, whose
+        # conduction excess sum c (-z phi_L + z^2 phi_L^2/2) (phi_L = r(phi) phi,
+        # dh's potential) stands against sum c (exp(-z phi) - 1) (for a
+        # symmetric salt of equal mobilities sinh(Phi)^2/2 against cosh(Phi) - 1),
+        # weight G
+        pn = np.where(phi == 0, 1.0, phi)
+        gain = np.where(phi == 0, 1.0, isolated_wall_charge(zb, w, pn) / pn)
+        grahame = np.abs(gain - 1.0)
+        phi_l = _screening_ratio(valences, w, phi) * phi
+        ex_pb = np.sum(cw * np.expm1(-zb * phi), axis=0)
+        ex_dh = np.sum(cw * (-zb * phi_l + (zb * phi_l)**2 / 2.0), axis=0)
+        overlap_cond = np.abs(ex_dh - ex_pb) / (1.0 + np.abs(ex_pb))
         # a fixed charge fixes <phi> - phi_w of overlapped layers, so the mean
-        # charge term enters only through the conduction; a regulated charge
-        # follows the (overlapped) potential, so it keeps the full term
-        overlap_weight = G**2 if condition == "regulated" else _DH_CHARGE_OVERLAP * G
-        ratio = (ratio - G**2 * overlap + overlap_weight * overlap
-                 + (1.0 - G) * grahame + G * overlap_cond + skew / 6.0)
+        # charge term enters only through the conduction
+        ratio = (_DH_CHARGE_OVERLAP * G * (1.0 - G) * overlap + G * thin_eo + thin_cond
+                 + (1.0 - G) * grahame + G * overlap_cond)
         dh = _SAFETY_DH_CHARGE * ratio
     thin, dh = np.broadcast_arrays(np.minimum(thin, 1e6), np.minimum(dh, 1e6))
     return {"thin": thin, "dh": dh}
 
 
 def choose_models(kappa_half_size, phi_wall, valences, geometry, tol, condition="potential",
-                  weights=None):
+                  weights=None, phi_thin=None, phi_dh=None, conduction_weights=None,
+                  dukhin_m=None):
     """Pick, per point, the cheapest model whose estimated error is below ``tol``.
 
     Returns (models, estimates): an array of "thin"/"dh"/"pb" and the dict
     from :func:`estimated_model_errors`.
     """
     est = estimated_model_errors(kappa_half_size, phi_wall, valences, geometry, condition,
-                                 weights)
+                                 weights, phi_thin, phi_dh, conduction_weights, dukhin_m)
     models = np.where(est["thin"] <= tol, "thin", np.where(est["dh"] <= tol, "dh", "pb"))
     return models, est
 
 
+
+
+def _linear_slope(m, K, geometry_factor):
+    """Scaled charge per scaled wall potential of the linear layer: K tanh K
+    (slit), K I1/I0 (tube), K tanh(K/geometry_factor) for sections (both limits)."""
+    if m == 0:
+        return K * np.tanh(K)
+    if m == 1:
+        return K * special.ive(1, K) / special.ive(0, K)
+    return K * np.tanh(K / geometry_factor)
+
+
+def _layer_gain(z, weights, G, phi):
+    """Charge of a nonlinear layer at wall potential phi over the linear
+    one's: isolated (Grahame charge over linear) in thin layers, uniform (mean
+    charge over linear) when they overlap; geometric mean with weights 1 - G
+    and G (an arithmetic one lets the exponentially larger uniform gain
+    dominate thin layers)."""
+    zc = np.asarray(z, dtype=float)[:, None]
+    pn = np.where(phi == 0, 1e-300, phi)
+    g_iso = np.maximum(isolated_wall_charge(zc, weights, pn) / pn, 1e-300)
+    g_uni = np.maximum(_screening_ratio(z, weights, pn), 1e-300)
+    return np.exp((1.0 - G) * np.log(g_iso) + G * np.log(g_uni))
+
+
+def _layer_potential(z, weights, G, slope, sigma_s):
+    """Scaled wall potential at which the nonlinear layer of the channel
+    (slope phi gain(phi)) holds the scaled charge ``sigma_s``: bisection."""
+    lim = 80.0 / np.max(np.abs(z))
+    lo = np.full(np.shape(sigma_s), -lim)
+    hi = -lo
+    for _ in range(64):
+        mid = 0.5 * (lo + hi)
+        up = slope * mid * _layer_gain(z, weights, G, mid) - sigma_s < 0
+        lo = np.where(up, mid, lo)
+        hi = np.where(up, hi, mid)
+    return 0.5 * (lo + hi)
 
 
 def auto_choice(b, geometry, geometry_factor, tol):
@@ -343,25 +554,51 @@ def auto_choice(b, geometry, geometry_factor, tol):
 
     ``b`` is a :class:`ekexplore._state.Batch` with the channel's half-size
     as its length; ``geometry_factor`` is perimeter x half-size / area
-    (1 slit, 2 tube). A constant-charge wall's potential is estimated by
-    :func:`ekexplore.doublelayer.wall_potential_estimate`.
+    (1 slit, 2 tube). The wall potential of a charge (fixed or regulated) is
+    estimated without a solve: pb's (where the channel's nonlinear layer holds
+    the charge, :func:`_layer_potential`), thin's (the isolated wall) and, for
+    a regulated wall, dh's (the sites against the linear layer).
     """
+    lin = None
+    lam = b.molar_conductivity * b.c      # each ion's share of the bulk conductivity
     if b.wall.dirichlet:
-        phi_est = b.scaled_value
+        phi_est = iso = b.scaled_value
     elif b.wall.nonlinear:
-        # a charge-regulating wall: its isolated-wall potential, moved toward
-        # its (larger) potential against the linear layer of the section as the
-        # layers overlap (weight G): the linear layer screens less, so it bounds
-        # the overlapped potential from above. The linear layer's charge per
-        # potential is K tanh(K/geometry_factor): exact for the slit, both
-        # limits of the tube.
+        # a charge-regulating wall: thin's potential is that of the isolated
+        # wall, dh's that of the sites against the linear layer of the section
+        # (charge per potential K tanh K for the slit, K I1/I0 for the tube, K
+        # tanh(K/geometry_factor) for sections: both limits); pb's lies
+        # between, nearer the linear one as the layers overlap (weight G): the
+        # linear layer screens less, so it bounds the overlapped potential from
+        # above
+        m = geometry_index(geometry)
         iso = b.wall.isolated_potential(b.z, b.weights, b.K, b.scaled_value)
         gf = np.broadcast_to(np.asarray(geometry_factor, dtype=float), b.K.shape)
-        lin = b.wall.linear_potential(b.K * np.tanh(b.K / gf), b.scaled_value)
-        G = _mean_factor(geometry_index(geometry), b.K)
-        phi_est = np.where(np.abs(lin) > np.abs(iso), iso + G * (lin - iso), iso)
+        slope = _linear_slope(m, b.K, gf)
+        lin = b.wall.linear_potential(slope, b.scaled_value)
+        G = _mean_factor(m, b.K)
+        # pb's: the sites against the channel's nonlinear layer (the linear
+        # layer's charge times the gain of _layer_gain; asymmetric salts can
+        # gain less than 1, pb's potential then above dh's)
+
+        def diffuse(p):
+            return slope * p * _layer_gain(b.z, b.weights, G, p)
+        phi_est = b.wall._balance(b.scaled_value, diffuse, 40.0 / np.max(np.abs(b.z)))
+        # a confined layer holds less charge than an isolated wall at the same
+        # potential, so pb's potential is at least the isolated wall's
+        phi_est = np.where(np.abs(phi_est) < np.abs(iso), iso, phi_est)
     else:
-        phi_est = wall_potential_estimate(b.z, b.weights, b.K, b.scaled_value, geometry_factor)
+        # a fixed charge: the potential at which the channel's nonlinear layer
+        # holds it (isolated in thin layers, Donnan-like when they overlap;
+        # the linear layer's charge per potential carries the curvature)
+        m = geometry_index(geometry)
+        gf = np.broadcast_to(np.asarray(geometry_factor, dtype=float), b.K.shape)
+        phi_est = _layer_potential(b.z, b.weights, _mean_factor(m, b.K),
+                                   _linear_slope(m, b.K, gf), b.scaled_value)
+        iso = isolated_wall_potential(b.z, b.weights, b.K, b.scaled_value)
+        phi_est = np.where(np.abs(phi_est) < np.abs(iso), iso, phi_est)
     return choose_models(b.K, phi_est, b.z, geometry, tol, condition=b.wall.name,
-                         weights=b.weights)
+                         weights=b.weights, phi_thin=iso, phi_dh=lin,
+                         conduction_weights=lam / np.sum(lam, axis=0),
+                         dukhin_m=2.0 * b.eps * b.VT**2 / (3.0 * b.eta * b.D))
 

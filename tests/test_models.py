@@ -20,28 +20,51 @@ def _channel(shape, K, e):
     return shape(size)
 
 
-def _solve_each(shape, sizes, e, walls, model):
+def _solve_each(build, n, model):
     """Matrix and error estimate per point; NaN where solve refuses the point
-    (a charge whose linear (dh) wall potential leaves the range of every model)."""
+    (a charge whose linear (dh) wall potential leaves the range of every model).
+    ``build(k)`` gives (channel, electrolyte, wall) for an index array k."""
     import warnings
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         try:
-            r = ek.solve(shape(sizes), e, walls(None), model=model)
+            r = ek.solve(*build(np.arange(n)), model=model)
             return r.matrix, r.error_estimate
         except ValueError:
             pass
-        M = np.full(sizes.shape + (2, 2), np.nan)
-        est = np.full(sizes.shape, np.nan)
-        for k in np.ndindex(sizes.shape):
+        M = np.full((n, 2, 2), np.nan)
+        est = np.full(n, np.nan)
+        for k in range(n):
             try:
-                r = ek.solve(shape(sizes[k]), e, walls(k),
-                             model=model)
+                r = ek.solve(*build(k), model=model)
             except ValueError as exc:
                 assert "range" in str(exc)
                 continue
             M[k], est[k] = r.matrix, r.error_estimate
         return M, est
+
+
+def _check_estimates(build, n, within):
+    """Every thin and dh estimate bounds the true error against pb, and is within
+    10 times of it at a fraction ``within`` of the points at least."""
+    Mp, _ = _solve_each(build, n, "pb")
+    for model in ("thin", "dh"):
+        M, est = _solve_each(build, n, model)
+        err = np.max(np.abs(M - Mp) / np.abs(Mp), axis=(-2, -1))
+        meaningful = err > 1e-5   # below that the pb reference's own error matters
+        ratio = est[meaningful] / err[meaningful]
+        assert np.all(ratio >= 1.0), (model, np.min(ratio))
+        assert np.mean(ratio <= 10.0) >= within[model], (
+            model, np.mean(ratio <= 10.0), np.quantile(ratio, [0.5, 0.9]))
+
+
+# Estimate / true error measured with benchmarks/estimate_ratios.py (seeds 1 and 2,
+# 60 and 100 points per salt, shape and wall; pb at accuracy 1e-9), within 1-10 at:
+# thin 100 % (potential), 100 % (charge), 99-100 % (regulated silica, alumina, a
+# user-defined surface); dh 99.5 %, 98.7 %, 92-96 %. The fractions asserted leave
+# a margin for the smaller samples here (150 points, 80 per salt when regulated).
+WITHIN = {"potential": {"thin": 0.95, "dh": 0.9}, "charge": {"thin": 0.95, "dh": 0.85},
+          "regulated": {"thin": 0.9, "dh": 0.8}}
 
 
 @pytest.mark.parametrize("salt", ["KCl", "CaCl2", "Na2SO4"])
@@ -50,35 +73,25 @@ def _solve_each(shape, sizes, e, walls, model):
 def test_results_carry_an_upper_bound_of_their_error(salt, shape, condition):
     # Every thin and dh result carries an error estimate (the a-priori estimate of
     # the model table); over random points of the whole documented range (kappa a
-    # 1e-3 to 1e5, |z e zeta/kT| up to 20 or the charge that gives it) it must
-    # bound the true error against the full Poisson-Boltzmann solution (validated
-    # against the first-integral quadrature in test_doublelayer.py).
+    # 1e-3 to 1e5, |z e zeta/kT| up to 20 of either sign or the charge that gives
+    # it, 0.01-100 mM) it must bound the true error against the full
+    # Poisson-Boltzmann solution (validated against the first-integral quadrature
+    # in test_doublelayer.py), and be within 10x of it at most points.
     # a seed that is the same in every run (hash() of strings is salted per process)
     rng = np.random.default_rng(zlib.crc32(f"{salt}|{shape.__name__}|{condition}".encode()))
     n = 150
-    e = ek.Electrolyte.salt(salt, 1.0)
+    c = 10 ** rng.uniform(-2, 2, n)
+    e = ek.Electrolyte.salt(salt, c)
     zmax = np.max(np.abs(e.valences))
-    sizes = np.clip(2 * 10 ** rng.uniform(-3, 5, n) * float(e.debye_length), 1e-9, 1e-2)
-    zeta = -10 ** rng.uniform(-4, np.log10(20.0), n) * VT25 / zmax
+    sizes = np.clip(2 * 10 ** rng.uniform(-3, 5, n) * e.debye_length, 1e-9, 1e-2)
+    zeta = rng.choice([-1.0, 1.0], n) * 10 ** rng.uniform(-4, np.log10(20.0), n) * VT25 / zmax
     sigma = np.clip(ek.grahame_charge(e, zeta), -1, 1)
 
-    def walls(k):
-        if condition == "potential":
-            return ek.Wall(zeta=zeta if k is None else zeta[k])
-        return ek.Wall(charge_density=sigma if k is None else sigma[k])
-    Mp, _ = _solve_each(shape, sizes, e, walls, "pb")
-    for model in ("thin", "dh"):
-        M, est = _solve_each(shape, sizes, e, walls, model)
-        err = np.max(np.abs(M - Mp) / np.abs(Mp), axis=(-2, -1))
-        meaningful = err > 1e-5   # below that the pb reference's own error matters
-        assert np.all(est[meaningful] >= err[meaningful]), model
-        # and honest the other way: within 10x of the true error at most points
-        # (measured on 3,600 points: thin 96-99 %, dh 72-100 % per salt, shape and
-        # wall; median ratio 1.5-2.5 over both signs of zeta, up to 7 for Na2SO4 at
-        # negative zeta, where the divalent co-ion sets Phi in the estimate)
-        ratio = est[meaningful] / err[meaningful]
-        assert np.mean(ratio <= 10.0) >= 0.5, (model, np.quantile(ratio, [0.5, 0.9]))
-        assert np.median(ratio) <= 10.0, (model, np.median(ratio))
+    def build(k):
+        wall = ek.Wall(zeta=zeta[k]) if condition == "potential" else ek.Wall(
+            charge_density=sigma[k])
+        return shape(sizes[k]), ek.Electrolyte.salt(salt, c[k]), wall
+    _check_estimates(build, n, WITHIN[condition])
 
 
 @pytest.mark.parametrize("tol", [0.1, 0.01, 1e-3])
@@ -93,7 +106,7 @@ def test_auto_meets_its_tolerance(tol):
     # the cheap models are used where they may be, and the choice is recorded
     models = set(np.unique(ra.model))
     assert models <= {"thin", "dh", "pb"} and len(models) >= 2
-    assert "Richardson" in ra.error_method and "G/(1-G)" in ra.error_method
+    assert "Richardson" in ra.error_method and "g/(1-g)" in ra.error_method
 
 
 def test_auto_prefers_cheap_models_in_their_regimes():
@@ -149,30 +162,39 @@ def test_auto_choice_in_sections_uses_every_model():
     assert models == {"thin", "dh", "pb"}
 
 
+def _user_surface():
+    from ekexplore.surface import Site, Surface
+    # a user-defined wall: carboxyl and amine sites (invented numbers, a test case)
+    return Surface([Site(4.8, 2e18, charge=0, name="carboxyl"),
+                    Site(9.5, 0.5e18, charge=1, name="amine")], 1.0, name="user")
+
+
+@pytest.mark.parametrize("surface", ["silica", "alumina", "user"])
 @pytest.mark.parametrize("shape", [ek.Slit, ek.Tube])
-def test_regulated_wall_estimates_are_upper_bounds(shape):
-    # A charge-regulating silica wall (site parameters of Behrens & Grier 2001,
-    # J. Chem. Phys. 115, 6716, doi:10.1063/1.1404988, as in ekexplore.surface),
-    # pH 4-10, KCl and CaCl2 0.01-100 mM, kappa a 1e-2-1e4: the thin and dh
-    # estimates bound the error against pb. (Before the overlapped potential of
-    # the regulated wall entered the dh estimate it fell to 0.04 times the error
-    # at kappa a ~ 0.2, pH ~ 4.7.)
+def test_regulated_wall_estimates_are_upper_bounds(shape, surface):
+    # Charge-regulating walls: silica (site parameters of Behrens & Grier 2001,
+    # J. Chem. Phys. 115, 6716, doi:10.1063/1.1404988), alumina (van Hal, Eijkel &
+    # Bergveld 1996, Adv. Colloid Interface Sci. 69, 31,
+    # doi:10.1016/S0001-8686(96)00307-7, as in ekexplore.surface) and a
+    # user-defined two-site surface; pH 4-10, KCl, CaCl2 and Na2SO4 0.01-100 mM,
+    # kappa a 1e-2-1e4: the thin and dh estimates bound the error against pb and
+    # are within 10x of it at most points. (Before the overlapped potential of the
+    # regulated wall entered the dh estimate it fell to 0.04 times the error at
+    # kappa a ~ 0.2, pH ~ 4.7; the estimate that followed was 17-100 times the
+    # error at the median, up to 5e6, and fell to 0.7 on alumina and the user
+    # surface in 2:1 and 1:2 salts.)
     from ekexplore.surface import Surface
-    import warnings
-    rng = np.random.default_rng({"Slit": 5, "Tube": 6}[shape.__name__])
-    n = 150
-    for salt in ("KCl", "CaCl2"):
-        e = ek.Electrolyte.salt(salt, 0.1)
-        sizes = np.clip(2 * 10 ** rng.uniform(-2, 4, n) * float(e.debye_length), 1e-9, 1e-2)
+    make = {"silica": Surface.silica, "alumina": lambda: Surface.alumina(1.0),
+            "user": _user_surface}[surface]
+    for salt in ("KCl", "CaCl2", "Na2SO4"):
+        rng = np.random.default_rng(zlib.crc32(f"{salt}|{shape.__name__}|{surface}".encode()))
+        n = 80
+        c = 10 ** rng.uniform(-2, 2, n)
+        e = ek.Electrolyte.salt(salt, c)
+        sizes = np.clip(2 * 10 ** rng.uniform(-2, 4, n) * e.debye_length, 1e-9, 1e-2)
         pH = rng.uniform(4, 10, n)
 
-        def walls(k):
-            return ek.Wall(surface=Surface.silica(), pH=pH if k is None else pH[k])
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
-            Mp, _ = _solve_each(shape, sizes, e, walls, "pb")
-            for model in ("thin", "dh"):
-                M, est = _solve_each(shape, sizes, e, walls, model)
-                err = np.max(np.abs(M - Mp) / np.abs(Mp), axis=(-2, -1))
-                meaningful = err > 1e-5
-                assert np.all(est[meaningful] >= err[meaningful]), (salt, model)
+        def build(k):
+            return (shape(sizes[k]), ek.Electrolyte.salt(salt, c[k]),
+                    ek.Wall(surface=make(), pH=pH[k]))
+        _check_estimates(build, n, WITHIN["regulated"])

@@ -22,6 +22,7 @@ from __future__ import annotations
 import os
 import sys
 import warnings
+from types import SimpleNamespace
 
 import numpy as np
 import pytest
@@ -168,12 +169,13 @@ def _pb_1d_error(new, old, result, old_error):
     # Gouy-Chapman and solve_bvp references: 2-14 times the true error). The
     # values are unchanged; at pb points the estimate must have fallen by at least
     # 10x and stay positive where the wall is charged. Points auto gave to thin
-    # or dh keep their estimates (to 1e-11 absolute: at constant-charge walls the
-    # Newton stop moved by that before, see _charge_newton_values).
+    # or dh carry the a-priori estimates of the model table, which were
+    # tightened since (see _auto_choice_changed): positive and within auto's
+    # tolerance (1 %).
     pb = np.asarray(result.model) == "pb"
     assert np.all(new[pb] <= 0.1 * old[pb]), (new[pb], old[pb])
     assert np.all(new[pb & (old > 0)] > 0)
-    np.testing.assert_allclose(new[~pb], old[~pb], rtol=RTOL, atol=1e-11)
+    assert np.all((new[~pb] > 0) & (new[~pb] <= 0.01)), new[~pb]
 
 
 EXPLAINED[("error_estimate", _pb_1d)] = _pb_1d_error
@@ -359,19 +361,58 @@ def test_record_has_every_case(stored):
     assert list(stored["labels"]) == [label for label, _ in CASES]
 
 
+def _auto_1d(label):
+    return not _is_section(label) and label.split("|")[3] == "auto"
+
+
+def _auto_choice_changed(rec, old, changed, label):
+    # The thin and dh estimates were tightened (estimate / true error against pb
+    # from up to 3,551 (thin) and 1.4e6 (dh, regulated walls) down to about 10 at
+    # most points, still upper bounds; benchmarks/estimate_ratios.py and
+    # tests/test_models.py), so auto (tol 1 %) may now pick another model at a
+    # point where the two estimates straddle the tolerance. Both the old and the
+    # new choice are within 1 % of pb, so the matrices agree to 2 % plus the pb
+    # error; a closed-form choice carries an estimate within the tolerance.
+    tol = 0.01
+    new_m, old_m = rec["matrix"][changed], old["matrix"][changed]
+    assert np.all(np.abs(new_m - old_m) <= 2.0 * tol * np.abs(old_m) + 1e-300), label
+    cheap = np.isin(rec["model"][changed], ("thin", "dh"))
+    est = rec["error_estimate"][changed]
+    assert np.all((est[cheap] > 0) & (est[cheap] <= tol)), label
+
+
+def _keep(a, mask):
+    """The entries of a field at the points of ``mask`` (point axes leading, or
+    after the ion axis)."""
+    a = np.asarray(a)
+    if a.shape[:mask.ndim] == mask.shape:
+        return a[mask]
+    return a[:, mask]
+
+
 @pytest.mark.parametrize("i", range(len(CASES)), ids=[label for label, _ in CASES])
 def test_numbers_unchanged(stored, i):
     label, run = CASES[i]
     result = _run(run)
     rec = _record(result)
-    np.testing.assert_array_equal(rec["model"], stored[f"{i}/model"], err_msg=label)
+    old = {f: stored[f"{i}/{f}"] for f in FIELDS + ("model",)}
+    changed = rec["model"] != old["model"]
+    if np.any(changed):
+        # only auto in slits and tubes may choose differently (see _auto_choice_changed)
+        assert _auto_1d(label), (label, rec["model"], old["model"])
+        _auto_choice_changed(rec, old, changed, label)
+        same = ~changed
+        rec = {f: _keep(v, same) for f, v in rec.items()}
+        old = {f: _keep(v, same) for f, v in old.items()}
+        result = SimpleNamespace(model=rec["model"], channel=result.channel)
+    np.testing.assert_array_equal(rec["model"], old["model"], err_msg=label)
     for f in FIELDS:
-        ref = stored[f"{i}/{f}"]
+        ref = old[f]
         checks = [check for (field, applies), check in EXPLAINED.items()
                   if field == f and applies(label)]
         if checks:
             for check in checks:
-                check(rec[f], ref, result, stored[f"{i}/error_estimate"])
+                check(rec[f], ref, result, old["error_estimate"])
             continue
         atol = 0.0
         if f == "error_estimate":

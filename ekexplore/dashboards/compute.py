@@ -308,11 +308,15 @@ def estimated_error(r, state):
     VT = constants.k * scalar(r.temperature) / constants.e
     geometry = {"slit": "slit", "tube": "tube"}.get(ek.channels.SHAPES[state.shape].kind,
                                                    "section")
-    est = ek.estimated_model_errors(scalar(r.kappa_size), scalar(r.wall_potential) / VT,
+    phi = scalar(r.wall_potential) / VT
+    # a regulated wall's estimate compares dh's potential with pb's: here only the
+    # shown model's is known, so the result's own estimate (which has both) rules
+    est = ek.estimated_model_errors(scalar(r.kappa_size), phi,
                                     valences=tuple(int(v) for v in z), geometry=geometry,
                                     condition={"zeta": "potential", "charge": "charge"}.get(
                                         state.wall_mode, "regulated"),
-                                    weights=(c / np.sum(z**2 * c)).reshape(-1))
+                                    weights=(c / np.sum(z**2 * c)).reshape(-1),
+                                    phi_thin=phi, phi_dh=phi)
     return float(np.asarray(est[text(r.model)]).reshape(-1)[0])
 
 
