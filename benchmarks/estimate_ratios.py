@@ -9,7 +9,7 @@ own error matters) are left out. Prints, per model and wall kind, the minimum,
 median, 90th percentile and maximum of estimate / true and the fraction within
 1-10.
 
-    python benchmarks/estimate_ratios.py [--n 60] [--seed 1] [--save out.npz]
+    python benchmarks/estimate_ratios.py [--n 60] [--seed 1] [--save rows.npy]
 """
 import argparse
 import warnings
@@ -27,7 +27,8 @@ WALLS = ("potential", "charge", "silica", "alumina", "user")
 
 
 def user_surface():
-    """A user-defined wall: carboxyl (pK 4.8, 2/nm^2) and amine (pK 9.5, 0.5/nm^2) sites."""
+    """A user-defined wall: carboxyl (pK 4.8, 2/nm^2) and amine (pK 9.5, 0.5/nm^2)
+    sites, Stern capacitance 1 F/m^2 (illustrative numbers, not a material's)."""
     return Surface([Site(4.8, 2e18, charge=0, name="carboxyl"),
                     Site(9.5, 0.5e18, charge=1, name="amine")], 1.0, name="user")
 

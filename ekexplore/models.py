@@ -322,16 +322,30 @@ def _nonlinear_mean_factor(m, K, phi_wall, z=(1, -1), weights=None):
     K = np.asarray(K, dtype=float)
     phi = np.asarray(phi_wall, dtype=float)
     K, phi = np.broadcast_arrays(K, phi)
-    lo = np.zeros(K.shape)
-    hi = np.ones(K.shape)
-    for _ in range(48):
-        t = 0.5 * (lo + hi)
-        r = _screening_ratio(z, weights, t * phi)
-        up = t > _centre_factor(m, K * np.sqrt(r))
-        hi = np.where(up, t, hi)
-        lo = np.where(up, lo, t)
-    r = _screening_ratio(z, weights, lo * phi)
-    return _mean_factor(m, K * np.sqrt(r))
+    shape = K.shape
+    K, phi = K.ravel(), phi.ravel()
+    w = None
+    if weights is not None:
+        w = np.asarray(weights, dtype=float)
+        w = np.broadcast_to(w.reshape(w.shape + (1,) * (len(shape) + 1 - w.ndim)),
+                            w.shape[:1] + shape).reshape(w.shape[0], -1)
+    Keff = K.copy()
+    # only overlapping, charged layers: beyond K = 50 the centre potential is
+    # below 1e-20 of the wall's, and r(psi_c) = 1 to that
+    sub = np.flatnonzero((K < 50.0) & (np.abs(phi) > 1e-8))
+    if sub.size:
+        Ks, ps = K[sub], phi[sub]
+        ws = None if w is None else w[:, sub]
+        lo = np.zeros(sub.size)
+        hi = np.ones(sub.size)
+        for _ in range(40):
+            t = 0.5 * (lo + hi)
+            r = _screening_ratio(z, ws, t * ps)
+            up = t > _centre_factor(m, Ks * np.sqrt(r))
+            hi = np.where(up, t, hi)
+            lo = np.where(up, lo, t)
+        Keff[sub] = Ks * np.sqrt(_screening_ratio(z, ws, lo * ps))
+    return _mean_factor(m, Keff).reshape(shape)
 
 
 def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry=0,
@@ -535,18 +549,22 @@ def _layer_gain(z, weights, G, phi):
     return np.exp((1.0 - G) * np.log(g_iso) + G * np.log(g_uni))
 
 
-def _layer_potential(z, weights, G, slope, sigma_s):
-    """Scaled wall potential at which the nonlinear layer of the channel
-    (slope phi gain(phi)) holds the scaled charge ``sigma_s``: bisection."""
-    lim = 80.0 / np.max(np.abs(z))
-    lo = np.full(np.shape(sigma_s), -lim)
-    hi = -lo
-    for _ in range(64):
+def _layer_potential(z, weights, G, slope, sigma_s, iso):
+    """Scaled wall potential, at least the isolated wall's ``iso``, at which the
+    nonlinear layer of the channel (slope phi gain(phi)) holds the scaled charge
+    ``sigma_s``: bisection on log|phi| between |iso| and twice the linear
+    layer's potential (the gain stays above about 0.8, for asymmetric salts)."""
+    sgn = np.sign(sigma_s)
+    a = np.abs(sigma_s)
+    lo = np.log(np.maximum(np.abs(iso), 1e-300))
+    hi = np.log(np.maximum(np.maximum(2.0 * a / slope, np.abs(iso)), 1e-300))
+    for _ in range(40):
         mid = 0.5 * (lo + hi)
-        up = slope * mid * _layer_gain(z, weights, G, mid) - sigma_s < 0
+        p = sgn * np.exp(mid)
+        up = slope * np.abs(p) * _layer_gain(z, weights, G, p) < a
         lo = np.where(up, mid, lo)
         hi = np.where(up, hi, mid)
-    return 0.5 * (lo + hi)
+    return np.where(a == 0, 0.0, sgn * np.exp(0.5 * (lo + hi)))
 
 
 def auto_choice(b, geometry, geometry_factor, tol):
@@ -593,10 +611,9 @@ def auto_choice(b, geometry, geometry_factor, tol):
         # the linear layer's charge per potential carries the curvature)
         m = geometry_index(geometry)
         gf = np.broadcast_to(np.asarray(geometry_factor, dtype=float), b.K.shape)
-        phi_est = _layer_potential(b.z, b.weights, _mean_factor(m, b.K),
-                                   _linear_slope(m, b.K, gf), b.scaled_value)
         iso = isolated_wall_potential(b.z, b.weights, b.K, b.scaled_value)
-        phi_est = np.where(np.abs(phi_est) < np.abs(iso), iso, phi_est)
+        phi_est = _layer_potential(b.z, b.weights, _mean_factor(m, b.K),
+                                   _linear_slope(m, b.K, gf), b.scaled_value, iso)
     return choose_models(b.K, phi_est, b.z, geometry, tol, condition=b.wall.name,
                          weights=b.weights, phi_thin=iso, phi_dh=lin,
                          conduction_weights=lam / np.sum(lam, axis=0),

@@ -164,7 +164,7 @@ def test_auto_choice_in_sections_uses_every_model():
 
 def _user_surface():
     from ekexplore.surface import Site, Surface
-    # a user-defined wall: carboxyl and amine sites (invented numbers, a test case)
+    # a user-defined wall: carboxyl and amine sites (illustrative numbers, not a material's)
     return Surface([Site(4.8, 2e18, charge=0, name="carboxyl"),
                     Site(9.5, 0.5e18, charge=1, name="amine")], 1.0, name="user")
 
