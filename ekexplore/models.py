@@ -413,14 +413,12 @@ def estimated_model_errors(kappa_half_size, phi_wall, valences=(1, -1), geometry
     broadcast_named({"kappa_half_size": K.shape, "phi_wall": phi_wall.shape})
     G = _mean_factor(m, K)
     phi_t = phi_wall if phi_thin is None else as_float_array("phi_thin", phi_thin)
-    if condition == "potential":
-        Gn = _nonlinear_mean_factor(m, K, phi_wall, valences, weights)
-        thin = _SAFETY_THIN * Gn / np.maximum(1.0 - Gn, 1e-12)
-    elif condition == "regulated":
-        Gn = _nonlinear_mean_factor(m, K, phi_t, valences, weights)
+    # a regulated wall's thin error is g/(1-g) at thin's own (isolated) potential
+    Gn = _nonlinear_mean_factor(m, K, phi_t if condition == "regulated" else phi_wall,
+                                valences, weights)
+    if condition != "charge":
         thin = _SAFETY_THIN * Gn / np.maximum(1.0 - Gn, 1e-12)
     else:
-        Gn = _nonlinear_mean_factor(m, K, phi_wall, valences, weights)
         ratio_t = np.abs(np.asarray(phi_t) / np.where(phi_wall == 0, 1.0, phi_wall))
         ratio_t = np.where(phi_wall == 0, 1.0, ratio_t)
         thin = _SAFETY_THIN * np.abs(ratio_t / np.maximum(1.0 - Gn, 1e-12) - 1.0)

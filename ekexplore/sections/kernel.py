@@ -93,13 +93,13 @@ def _point_series(channel, bk, geo, k, accuracy, model, options):
     return means, s["mean_u"], sigma, phi_w, s["tail"]
 
 
-def _point_mesh(channel, bk, geo, k, n, accuracy, model, deadline, model_error=0.0):
+def _point_mesh(channel, bk, geo, k, n, accuracy, model, deadline, target=None):
     """dh or pb at one point on graded meshes, Richardson-extrapolated.
 
-    Refines until the mesh error meets its target: ``accuracy``, or a tenth of
-    ``model_error`` (the model's own a-priori error, for a dh point forced
-    outside its range) where that is larger, since the reported error is the
-    larger of the two. A refinement whose predicted time (the last one's,
+    Refines until the mesh error meets ``target`` (default ``accuracy``; for a
+    dh point forced outside its range the kernel passes a tenth of the model's
+    own a-priori error where that is larger, since the reported error is the
+    larger of the two). A refinement whose predicted time (the last one's,
     scaled by the cell count) would overrun ``deadline`` is not started.
     Returns the means, the mean flow, the wall charge and potential, the mesh
     error, and why it stopped short of the target (``None``, ``"budget"`` or
@@ -130,7 +130,7 @@ def _point_mesh(channel, bk, geo, k, n, accuracy, model, deadline, model_error=0
     lam_c = (bk.molar_conductivity * bk.c)[:, 0]
     conv_c = (bk.z[:, None] * F * bk.c * bk.eps * bk.VT / bk.eta)[:, 0]
     w = bk.charge_weights[:, 0]
-    target = max(accuracy, _MODEL_SHARE * model_error)
+    target = accuracy if target is None else target
     short = None
     while True:
         start = time.monotonic()
@@ -210,7 +210,7 @@ def section_kernel(channel, cond, models, options):
             res = _point_series(channel, bk, geo, k, accuracy, name, options)
             if res is None:
                 *res, short[k] = _point_mesh(channel, bk, geo, k, n, accuracy, name, deadline,
-                                             dh_error[k] if name == "dh" else 0.0)
+                                             target[k])
         means, u_mean, sigma, phi_w, err = res
         co = coefficients(bk, np.atleast_1d(means["l12"]), np.atleast_1d(means["l21"]),
                           means["mean_c"][:, None], means["conv"][:, None])
